@@ -1,0 +1,137 @@
+"""Speed and memory of harmonize as ratios to plain pandas reading and writing the same file.
+
+    python bench/bench.py                      # 1,000,000 rows x 8 columns (mixed kinds)
+    python bench/bench.py --rows 100000 --plain  # text and identifiers only: no conversions
+
+Each measurement runs in a fresh Python process so that peak memory (max RSS) belongs to
+it alone. The floor is `pandas.read_csv(path)` followed by `DataFrame.to_csv`. The data is
+an invented export (Quillmoor Provisions' order lines), generated with a fixed seed.
+Nothing here is asserted: the numbers are printed and quoted in the README.
+"""
+
+from __future__ import annotations
+
+import argparse
+import json
+import subprocess
+import sys
+import tempfile
+import time
+from pathlib import Path
+
+import numpy as np
+import pandas as pd
+
+FLOOR = """
+import resource, sys, time, pandas as pd
+t = time.perf_counter()
+frame = pd.read_csv(sys.argv[1])
+frame.to_csv(sys.argv[2], index=False)
+print(time.perf_counter() - t, resource.getrusage(resource.RUSAGE_SELF).ru_maxrss)
+"""
+
+HARMONIZE = """
+import resource, sys, time
+import harmonize
+t = time.perf_counter()
+harmonize.run([sys.argv[1]], sys.argv[2], fmt="csv")
+print(time.perf_counter() - t, resource.getrusage(resource.RUSAGE_SELF).ru_maxrss)
+"""
+
+STAGES = """
+import json, sys, time
+from pathlib import Path
+from harmonize.apply import apply_column
+from harmonize.context import Context
+from harmonize.decide import decide_column
+from harmonize.evidence import TableEvidence
+from harmonize.sources import read_tables, write_table
+times = {}
+t = time.perf_counter(); table = read_tables(Path(sys.argv[1]))[0]
+times["read"] = time.perf_counter() - t
+t = time.perf_counter(); evidence = TableEvidence.from_frame(table.frame)
+times["evidence"] = time.perf_counter() - t
+context = Context(evidence)
+out = {}
+for column in evidence.columns:
+    t = time.perf_counter(); plan = decide_column(column, context)
+    d = time.perf_counter() - t
+    t = time.perf_counter(); result = apply_column(column, plan, context)
+    a = time.perf_counter() - t
+    out[column.name] = result.text
+    times[f"{column.name} [{plan.kind}] decide / apply"] = [d, a, len(column.values)]
+import pandas as pd
+t = time.perf_counter(); write_table(pd.DataFrame(out), Path(sys.argv[2]), fmt="csv")
+times["write"] = time.perf_counter() - t
+print(json.dumps(times))
+"""
+
+
+def make_export(rows: int, plain: bool, path: Path, seed: int = 7) -> None:
+    rng = np.random.default_rng(seed)
+    days = pd.date_range("2020-01-01", periods=1500, freq="D")
+    pick = rng.integers(0, len(days), rows)
+    ids = rng.integers(0, 10**6, rows)
+    towns = np.array(["Harrowdene", "HARROWDENE", " harrowdene", "Tamsbridge", "Ostwiesen",
+                      "Vallerance", "Port Ellery", "Zürrenberg"], dtype=object)
+    columns: dict[str, object] = {
+        "Order ref": [f"{i:07d}" for i in ids],
+        "Town": towns[rng.integers(0, len(towns), rows)],
+    }
+    if plain:
+        columns["Note"] = np.array(["left at depot", "call first", "fragile", ""],
+                                   dtype=object)[rng.integers(0, 4, rows)]
+        columns["Sku"] = [f"QP-{i % 50000:05d}" for i in ids]
+    else:
+        columns["Order date"] = days[pick].strftime("%d/%m/%Y")
+        stamps = days[pick] + pd.to_timedelta(rng.integers(0, 86400, rows), unit="s")
+        columns["Created"] = stamps.strftime("%Y-%m-%d %H:%M:%S")
+        cents = rng.integers(100, 5_000_000, rows)
+        columns["Betrag"] = [f"{c // 100:,}".replace(",", ".") + f",{c % 100:02d}"
+                             for c in cents]
+        units = np.array(["kg", "lb", "g"], dtype=object)[rng.integers(0, 3, rows)]
+        columns["Weight"] = [f"{w} {u}" for w, u in zip(rng.integers(1, 500, rows), units)]
+        columns["Phone"] = [f"020 7946 {n:04d}" for n in rng.integers(0, 10000, rows)]
+        columns["Paid"] = np.array(["yes", "no"], dtype=object)[rng.integers(0, 2, rows)]
+    pd.DataFrame(columns).to_csv(path, index=False)
+
+
+def measure(script: str, src: Path, dest: Path) -> tuple[float, float]:
+    done = subprocess.run([sys.executable, "-c", script, str(src), str(dest)], check=True,
+                          capture_output=True, text=True)
+    seconds, rss_kb = done.stdout.split()[-2:]
+    return float(seconds), float(rss_kb) / 1024
+
+
+def main() -> None:
+    parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+    parser.add_argument("--rows", type=int, default=1_000_000)
+    parser.add_argument("--plain", action="store_true", help="no columns to convert")
+    parser.add_argument("--stages", action="store_true", help="also time each column")
+    args = parser.parse_args()
+    with tempfile.TemporaryDirectory() as tmp:
+        src = Path(tmp) / "export.csv"
+        t = time.perf_counter()
+        make_export(args.rows, args.plain, src)
+        print(f"generated {args.rows:,} rows ({src.stat().st_size / 1e6:.1f} MB) "
+              f"in {time.perf_counter() - t:.1f}s")
+        floor_s, floor_mb = measure(FLOOR, src, Path(tmp) / "floor.csv")
+        ours_s, ours_mb = measure(HARMONIZE, src, Path(tmp) / "out")
+        print(f"pandas read_csv + to_csv : {floor_s:7.2f} s  peak {floor_mb:7.0f} MB")
+        print(f"harmonize apply          : {ours_s:7.2f} s  peak {ours_mb:7.0f} MB")
+        print(f"ratio (time)             : {ours_s / floor_s:7.2f}x")
+        print(f"ratio (peak memory)      : {ours_mb / floor_mb:7.2f}x")
+        if args.stages:
+            done = subprocess.run([sys.executable, "-c", STAGES, str(src),
+                                   str(Path(tmp) / "s.csv")], check=True, capture_output=True,
+                                  text=True)
+            for name, value in json.loads(done.stdout).items():
+                if isinstance(value, list):
+                    print(f"  {name:45s} {value[0]:6.2f} s / {value[1]:6.2f} s"
+                          f"  ({value[2]:,} distinct)")
+                else:
+                    print(f"  {name:45s} {value:6.2f} s")
+
+
+if __name__ == "__main__":
+    main()

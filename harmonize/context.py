@@ -1,0 +1,114 @@
+"""What an engine may know about a column besides its own values.
+
+The context holds the whole table's evidence, the run options, and the columns that
+could explain a split of the rows into groups with different conventions (a country,
+branch, currency or source column). A country column also gives each row a locale
+hint: its ISO 3166 territory.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from functools import cached_property
+
+import numpy as np
+import pandas as pd
+
+from harmonize.evidence import ColumnEvidence, TableEvidence
+from harmonize.options import Options
+from harmonize.territory import territory_of
+
+MAX_GROUPS = 60          # a column with more labels than this explains no split
+MIN_LABELLED = 0.9       # share of rows a split column must label
+COUNTRY_SHARE = 0.8      # share of labelled rows naming a territory for a country column
+
+
+@dataclass(frozen=True)
+class Split:
+    """Rows grouped by the trimmed value of one column."""
+
+    column: str
+    labels: tuple[str, ...]
+    codes: np.ndarray                      # per row, index into labels; -1 = blank
+    territories: tuple[str | None, ...]    # ISO 3166 alpha-2 per label, where one is named
+
+    @property
+    def n_groups(self) -> int:
+        return len(self.labels)
+
+    @property
+    def territory_share(self) -> float:
+        labelled = self.codes >= 0
+        if not labelled.any():
+            return 0.0
+        has = np.asarray([t is not None for t in self.territories] + [False])
+        return float(has[self.codes[labelled]].mean())
+
+
+def _label_territory(label: str) -> str | None:
+    found = territory_of(label)
+    if found is None and len(label) > 3 and label[2] in "-_ /" and label[:2].isalpha():
+        found = territory_of(label[:2])  # branch codes such as "DE-04"
+    return found
+
+
+def split_from(column: ColumnEvidence) -> Split | None:
+    """Group rows by a column's trimmed values, or None when it cannot be a split."""
+    if column.codes is None or len(column.values) == 0:
+        return None
+    trimmed = pd.Series(column.values, dtype=object).str.strip()
+    label_codes, labels = pd.factorize(trimmed.replace("", None), use_na_sentinel=True)
+    if not 2 <= len(labels) <= MAX_GROUPS:
+        return None
+    lookup = np.append(label_codes, -1)
+    codes = lookup[column.codes]
+    if (codes >= 0).mean() < MIN_LABELLED:
+        return None
+    labels_t = tuple(str(x) for x in labels)
+    return Split(column.name, labels_t, codes, tuple(_label_territory(x) for x in labels_t))
+
+
+class Context:
+    """Shared, lazily computed knowledge about one table."""
+
+    def __init__(self, table: TableEvidence, options: Options | None = None) -> None:
+        self.table = table
+        self.options = options or Options()
+
+    @property
+    def file(self) -> str:
+        return self.table.file
+
+    @property
+    def sheet(self) -> str | None:
+        return self.table.sheet
+
+    @cached_property
+    def _splits(self) -> dict[str, Split]:
+        found = {}
+        for column in self.table.columns:
+            split = split_from(column)
+            if split is not None:
+                found[column.name] = split
+        return found
+
+    def splits(self, exclude: str | None = None) -> list[Split]:
+        """Candidate grouping columns, the column being decided left out."""
+        return [s for name, s in self._splits.items() if name != exclude]
+
+    def split(self, column: str) -> Split | None:
+        """The split by a named column (as a plan's group rule names it)."""
+        if column in self._splits:
+            return self._splits[column]
+        try:
+            return split_from(self.table.column(column))
+        except KeyError:
+            return None
+
+    @cached_property
+    def country_split(self) -> Split | None:
+        """The column that best names each row's country, if any does."""
+        best = max(self._splits.values(), key=lambda s: s.territory_share, default=None)
+        if best is None or best.territory_share < COUNTRY_SHARE:
+            return None
+        return best

@@ -1,0 +1,62 @@
+"""Deciding: every engine reads a column's evidence, the best-fitting proposal wins."""
+
+from __future__ import annotations
+
+import logging
+
+from harmonize.context import Context
+from harmonize.engines import ENGINES, FALLBACK
+from harmonize.engines.base import Decision
+from harmonize.engines.missing import MissingRule, find_missing
+from harmonize.evidence import ColumnEvidence, TableEvidence
+from harmonize.options import Options
+from harmonize.plan import ColumnPlan, TablePlan
+
+log = logging.getLogger(__name__)
+
+
+def _proposals(present: ColumnEvidence, context: Context) -> list[Decision]:
+    found = []
+    for engine in ENGINES:
+        decision = engine.propose(present, context)
+        if decision is not None:
+            found.append(decision)
+    return found
+
+
+def choose(present: ColumnEvidence, context: Context) -> Decision:
+    """The proposal with the highest fit above the threshold; ties go to the engine
+    registered first; the fallback (text) when nothing fits well enough."""
+    best: Decision | None = None
+    for decision in _proposals(present, context):
+        if decision.fit >= context.options.min_fit and (best is None or decision.fit > best.fit):
+            best = decision
+    if best is not None:
+        return best
+    fallback = FALLBACK.propose(present, context)
+    assert fallback is not None, "the fallback engine always proposes"
+    return fallback
+
+
+def empty_plan(name: str, rule: MissingRule) -> ColumnPlan:
+    return ColumnPlan(name=name, kind="empty", engine="missing", confidence=1.0,
+                      missing=sorted(rule.tokens),
+                      evidence=["every cell is empty or a missing-value word"])
+
+
+def decide_column(column: ColumnEvidence, context: Context) -> ColumnPlan:
+    rule = find_missing(column, context.options)
+    present = column.subset(~rule.mask(column.values))
+    if present.total == 0:
+        return empty_plan(column.name, rule)
+    decision = choose(present, context)
+    plan = ColumnPlan.from_decision(column.name, decision, sorted(rule.tokens))
+    if rule.reasons:
+        plan.details.setdefault("missing_reasons", dict(sorted(rule.reasons.items())))
+    return plan
+
+
+def decide_table(table: TableEvidence, options: Options | None = None) -> TablePlan:
+    context = Context(table, options)
+    columns = [decide_column(column, context) for column in table.columns]
+    return TablePlan(file=table.file, sheet=table.sheet, columns=columns)

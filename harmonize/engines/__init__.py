@@ -1,0 +1,29 @@
+"""The engines, in the order that breaks ties between equally good proposals.
+
+Each module holds one kind of value and speaks the protocol in ``base``. The text
+engine is the fallback: it wins only when no other engine claims the column.
+"""
+
+from __future__ import annotations
+
+from harmonize.engines.base import Converted, Decision, Engine, GroupRule, Outcome
+from harmonize.engines.identifiers import IdentifierEngine
+from harmonize.engines.text import TextEngine
+
+ENGINES: list[Engine] = [IdentifierEngine()]
+FALLBACK: Engine = TextEngine()
+
+
+def register(engine: Engine) -> None:
+    ENGINES.append(engine)
+
+
+def engine_named(name: str) -> Engine:
+    for engine in [*ENGINES, FALLBACK]:
+        if engine.name == name:
+            return engine
+    raise KeyError(name)
+
+
+__all__ = ["ENGINES", "FALLBACK", "Converted", "Decision", "Engine", "GroupRule", "Outcome",
+           "engine_named", "register"]

@@ -1,0 +1,89 @@
+"""Identifiers: values that look numeric but must stay text.
+
+Customer numbers with leading zeros, fixed-width article codes, postal codes, digit
+strings too long for a float: converting any of these to a number destroys them. The
+engine claims a column when its values are codes and something shows they are not
+quantities: a leading zero, a digit string too long to be an amount, or a header that
+names a code together with a fixed width. Values are passed through as written.
+"""
+
+from __future__ import annotations
+
+import re
+from collections.abc import Mapping, Sequence
+from typing import Any, ClassVar
+
+import numpy as np
+import pandas as pd
+
+from harmonize.context import Context
+from harmonize.engines.base import Converted, Decision, Outcome
+from harmonize.evidence import ColumnEvidence
+
+_CODE = r"^(?=[^\s]*\d)[A-Za-z0-9][A-Za-z0-9\-_/.#]*$"
+_HEADER = re.compile(
+    r"(?:^|[\s_\-./(])(?:id|ids|code|codes|no|nr|num|number|nummer|numéro|numero|zip|"
+    r"postal|postcode|postleitzahl|plz|cp|cap|sku|ean|gtin|upc|isbn|iban|account|konto|"
+    r"ref|reference|referenz|key|serial|batch|lot|ticket|invoice|rechnung|facture)"
+    r"(?:$|[\s_\-./)#:])", re.IGNORECASE)
+LONG_DIGITS = 16   # more digits than a float keeps exactly (IEEE 754 double: 15-17)
+
+
+def header_names_code(header: str) -> bool:
+    return bool(_HEADER.search(header.replace("ID", " id ")))
+
+
+def _shape(column: ColumnEvidence) -> dict[str, float]:
+    """Weighted shares of the column's cells by shape."""
+    text = pd.Series(column.values, dtype=object).str.strip()
+    weights = column.counts.astype(float)
+    total = max(weights.sum(), 1.0)
+    digits = text.str.fullmatch(r"\d+").to_numpy(dtype=bool)
+    code = text.str.match(_CODE).to_numpy(dtype=bool)
+    lengths = text.str.len().to_numpy()
+    lead0 = digits & (lengths >= 2) & text.str.startswith("0").to_numpy(dtype=bool)
+    long = digits & (lengths >= LONG_DIGITS)
+    modal = np.bincount(lengths[digits], weights=weights[digits]).argmax() if digits.any() else -1
+    return {
+        "digits": weights[digits].sum() / total,
+        "code": weights[code].sum() / total,
+        "lead0": weights[lead0].sum() / total,
+        "long": weights[long].sum() / total,
+        "fixed": weights[digits & (lengths == modal)].sum() / max(weights[digits].sum(), 1.0),
+        "width": float(modal),
+        "decimal": float(text.str.fullmatch(r"\d+[.,]\d+").to_numpy(dtype=bool).any()),
+    }
+
+
+class IdentifierEngine:
+    name: ClassVar[str] = "identifiers"
+
+    def propose(self, column: ColumnEvidence, context: Context) -> Decision | None:
+        if column.total == 0:
+            return None
+        shape = _shape(column)
+        named = header_names_code(column.name)
+        evidence: list[str] = []
+        if shape["lead0"] > 0 and not shape["decimal"]:
+            evidence.append(f"{shape['lead0']:.0%} of cells are digit strings with a leading zero")
+        if shape["long"] > 0:
+            evidence.append(f"{shape['long']:.0%} of cells have {LONG_DIGITS}+ digits, "
+                            "more than a number keeps exactly")
+        if named and shape["fixed"] >= 0.95 and shape["digits"] >= 0.5:
+            evidence.append(f"the header names a code and digit values have a fixed width "
+                            f"of {int(shape['width'])}")
+        if named and shape["code"] >= 0.9 and shape["digits"] < 0.5:
+            evidence.append("the header names a code and values are letter-digit codes")
+        if not evidence:
+            return None
+        confidence = 0.97 if len(evidence) > 1 or shape["lead0"] > 0.05 else 0.9
+        return Decision(kind="identifier", engine=self.name, fit=float(shape["code"]),
+                        confidence=confidence, convention={"trim": True},
+                        evidence=tuple(evidence))
+
+    def convert(self, values: Sequence[str], convention: Mapping[str, Any]) -> Converted:
+        result = Converted.empty(len(values))
+        trim = bool(convention.get("trim", True))
+        for i, raw in enumerate(values):
+            result.set(i, raw.strip() if trim else raw, Outcome.PASSED)
+        return result

@@ -1,0 +1,101 @@
+"""Missing values: the cells that say "no value", set aside before any engine decides.
+
+Three kinds are recognised, each reported per column with counts:
+* words: empty or white space, and the words in ``locales/missing_words.txt``
+  (N/A, null, -, k.A., n.d., ...), matched after trimming and case folding;
+* placeholders: e-mail addresses at reserved example domains (RFC 2606 / RFC 6761:
+  example.com/.net/.org, .example, .invalid, .test) and all-zero phone numbers;
+* sentinels: numbers such as -999 or 9999 in a numeric column, where every other value
+  lies far from them (so the column itself shows they stand for "no value").
+The rule is stored in the plan as a list of folded tokens, so re-applying is a lookup.
+"""
+
+from __future__ import annotations
+
+import re
+from dataclasses import dataclass, field
+
+import numpy as np
+import pandas as pd
+
+from harmonize.evidence import ColumnEvidence
+from harmonize.locales import all_entries
+from harmonize.options import Options
+
+_EMAIL_PLACEHOLDER = re.compile(
+    r"^[^@\s]+@(?:[\w-]+\.)*(?:example\.(?:com|net|org)|example|invalid|test|localhost)$",
+    re.IGNORECASE)
+_ZERO_PHONE = re.compile(r"^\+?[0\s().\-/]{6,}$")
+_SENTINEL = re.compile(r"^[-+]?9{2,}(?:[.,]0+)?$")
+_PLAIN_NUMBER = re.compile(r"^[-+]?\d+(?:[.,]\d+)?$")
+MIN_NUMERIC_SHARE = 0.9   # a column must be this numeric before a sentinel is believed
+SENTINEL_GAP = 5.0        # a sentinel lies this many times beyond the other values' range
+
+
+def fold_token(raw: str) -> str:
+    return raw.strip().casefold()
+
+
+@dataclass(frozen=True)
+class MissingRule:
+    """Folded tokens that count as missing in one column, with why each was chosen."""
+
+    tokens: frozenset[str]
+    reasons: dict[str, str] = field(default_factory=dict, compare=False)
+
+    def mask(self, values: np.ndarray) -> np.ndarray:
+        """True for each distinct raw value that is missing under this rule."""
+        folded = pd.Series(values, dtype=object).str.strip().str.casefold()
+        return (folded.eq("") | folded.isin(self.tokens)).to_numpy(dtype=bool)
+
+
+def _words(options: Options) -> frozenset[str]:
+    return frozenset(w.casefold() for w in all_entries("missing_words")) | frozenset(
+        w.strip().casefold() for w in options.missing_words)
+
+
+def _sentinels(folded: pd.Series, counts: np.ndarray) -> set[str]:
+    numeric = folded.str.match(_PLAIN_NUMBER)
+    if counts[numeric.to_numpy()].sum() < MIN_NUMERIC_SHARE * max(counts.sum(), 1):
+        return set()
+    candidates = numeric & folded.str.match(_SENTINEL)
+    others = pd.to_numeric(folded[numeric & ~candidates].str.replace(",", "."), errors="coerce")
+    if candidates.sum() == 0 or others.count() < 5:
+        return set()
+    low, high = others.min(), others.max()
+    span = max(abs(low), abs(high), 1.0)
+    found = set()
+    for token in folded[candidates].unique():
+        value = float(token.replace(",", "."))
+        if value < 0 <= low or abs(value) >= SENTINEL_GAP * span:
+            found.add(token)
+    return found
+
+
+def find_missing(column: ColumnEvidence, options: Options | None = None) -> MissingRule:
+    """Decide which of a column's distinct values mean "no value"."""
+    options = options or Options()
+    folded = pd.Series(column.values, dtype=object).str.strip().str.casefold()
+    words = _words(options)
+    reasons: dict[str, str] = {}
+    for token in folded[folded.isin(words)].unique():
+        reasons[token] = "missing-value word"
+    for token in folded[folded.str.match(_EMAIL_PLACEHOLDER)].unique():
+        reasons[token] = "placeholder e-mail at a reserved example domain"
+    for token in folded[folded.str.match(_ZERO_PHONE) & folded.str.contains("0")].unique():
+        if sum(ch == "0" for ch in token) >= 6:
+            reasons[token] = "all-zero phone number"
+    rest = ~(folded.isin(reasons) | folded.eq("")).to_numpy()
+    for token in _sentinels(folded[rest], column.counts[rest]):
+        reasons[token] = "sentinel number far outside the column's other values"
+    return MissingRule(frozenset(reasons), reasons)
+
+
+def missing_counts(column: ColumnEvidence, rule: MissingRule) -> dict[str, int]:
+    """Raw text (trimmed) -> cells, for the report."""
+    mask = rule.mask(column.values)
+    tally: dict[str, int] = {}
+    for raw, count in zip(column.values[mask].tolist(), column.counts[mask].tolist()):
+        key = raw.strip()
+        tally[key] = tally.get(key, 0) + int(count)
+    return dict(sorted(tally.items(), key=lambda kv: -kv[1]))

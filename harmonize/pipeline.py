@@ -1,0 +1,271 @@
+"""Files in, harmonised files and a report out: the road from read to write.
+
+One file is handled by ``process_file`` (read every sheet, gather evidence, decide or
+take the plan's decisions, apply, write). ``run`` walks the inputs, optionally on
+several processes, and gathers the report. A file that cannot be read is reported and
+the others go on.
+"""
+
+from __future__ import annotations
+
+import os
+from collections.abc import Callable, Sequence
+from concurrent.futures import ProcessPoolExecutor
+from dataclasses import dataclass, field
+from pathlib import Path
+from typing import Any
+
+import pandas as pd
+
+from harmonize import report as rpt
+from harmonize.apply import TableResult, apply_table
+from harmonize.decide import decide_table
+from harmonize.evidence import TableEvidence
+from harmonize.options import Options
+from harmonize.plan import Plan, TablePlan
+from harmonize.sources import SourceError, Table, find_inputs, read_tables, write_table
+
+WORKBOOK_SUFFIXES = frozenset({".xlsx", ".xlsm", ".ods"})
+OUTPUT_FORMATS = ("csv", "xlsx", "parquet")
+
+
+class RunError(ValueError):
+    """A problem with the run as a whole (bad output folder, output over an input)."""
+
+
+@dataclass
+class FileOutcome:
+    """Everything one input produced; plain data so it crosses process boundaries."""
+
+    input: str
+    entries: list[dict[str, Any]] = field(default_factory=list)
+    unresolved: list[dict[str, Any]] = field(default_factory=list)
+    plans: list[TablePlan] = field(default_factory=list)
+    outputs: list[str] = field(default_factory=list)
+    error: str | None = None
+
+
+@dataclass
+class RunResult:
+    report: dict[str, Any]
+    plan: Plan
+    outcomes: list[FileOutcome]
+
+    @property
+    def errors(self) -> list[dict[str, str]]:
+        return self.report["errors"]
+
+    @property
+    def drift(self) -> bool:
+        return any(e.get("drift") or any(c.get("drift") for c in e["columns"])
+                   for e in self.report["files"]) or any(
+            cell["reason"].startswith("drift") for cell in self.report["unresolved"])
+
+
+def _output_names(rel: Path, table: Table, fmt: str | None) -> tuple[Path, str]:
+    """Where a table's output goes, and the writer format."""
+    suffix = rel.suffix.lower()
+    if fmt is None:
+        if suffix in {".xlsx", ".xlsm"}:
+            return rel.with_suffix(".xlsx"), "xlsx"
+        if suffix == ".parquet":
+            return rel, "parquet"
+        if suffix == ".ods":
+            fmt = "csv"  # no ODS writer: each sheet goes to CSV, as with --format csv
+        else:
+            return rel.with_suffix(suffix or ".csv"), "csv"
+    if fmt == "csv" and table.sheet is not None and suffix in WORKBOOK_SUFFIXES:
+        return rel.with_name(f"{rel.stem}.{table.sheet}.csv"), "csv"
+    ext = {"csv": ".csv", "xlsx": ".xlsx", "parquet": ".parquet"}[fmt]
+    return rel.with_suffix(ext), fmt
+
+
+def evidence_of(table: Table, name: str) -> TableEvidence:
+    return TableEvidence.from_frame(table.frame, file=name, sheet=table.sheet,
+                                    typed=table.typed, formats=table.formats)
+
+
+def harmonize_table(table: Table, name: str, options: Options,
+                    plan: Plan | None) -> tuple[TablePlan, TableResult]:
+    evidence = evidence_of(table, name)
+    table_plan = None
+    if plan is not None:
+        table_plan = plan.table_for(name, table.sheet, [c.name for c in evidence.columns])
+    if table_plan is None:
+        table_plan = decide_table(evidence, options)
+    result = apply_table(evidence, table_plan, options)
+    if plan is not None:
+        if table_plan in plan.tables:
+            result.drift += contradictions(table_plan, decide_table(evidence, options))
+            for column in result.columns:
+                stuck = column.counts()["unresolved"]
+                if stuck:
+                    column.drift.append(f"{stuck} cells the plan cannot read")
+        else:
+            result.drift.append("no entry of the plan matches this file; decisions were inferred")
+    return table_plan, result
+
+
+def contradictions(saved: TablePlan, fresh: TablePlan) -> list[str]:
+    """Decisions of a saved plan that the new data's own evidence contradicts."""
+    found = []
+    for new in fresh.columns:
+        old = saved.column(new.name)
+        if old is None or new.confidence < 0.9:
+            continue
+        if new.kind != old.kind:
+            found.append(f"column {new.name!r}: the plan says {old.kind}, the new data reads "
+                         f"as {new.kind} (confidence {new.confidence:.2f})")
+            continue
+        for key, value in new.convention.items():
+            if isinstance(value, str | int | float) and key in old.convention \
+                    and old.convention[key] != value:
+                found.append(f"column {new.name!r}: the plan says {key} = "
+                             f"{old.convention[key]!r}, the new data suggests {value!r}")
+    return found
+
+
+def _write_outputs(pending: list[tuple[Path, str, pd.DataFrame, str | None]],
+                   out_dir: Path, inputs: set[Path]) -> None:
+    from harmonize.sources import write_workbook
+    workbooks: dict[Path, dict[str, pd.DataFrame]] = {}
+    for rel_out, fmt, frame, sheet in pending:
+        dest = out_dir / rel_out
+        if dest.resolve() in inputs:
+            raise RunError(f"{dest}: refusing to overwrite an input file")
+        dest.parent.mkdir(parents=True, exist_ok=True)
+        if fmt == "xlsx" and sheet is not None:
+            workbooks.setdefault(dest, {})[sheet] = frame
+        else:
+            write_table(frame, dest, fmt=fmt)
+    for dest, sheets in workbooks.items():
+        write_workbook(sheets, dest)
+
+
+def process_file(path: Path, rel: Path, out_dir: Path | None, options: Options,
+                 plan: Plan | None, fmt: str | None, inputs: set[Path]) -> FileOutcome:
+    outcome = FileOutcome(input=str(rel))
+    try:
+        tables = read_tables(path)
+        pending = []
+        for table in tables:
+            table_plan, result = harmonize_table(table, str(rel), options, plan)
+            rel_out, writer = _output_names(rel, table, fmt)
+            pending.append((rel_out, writer, result.frame, table.sheet))
+            entry, unresolved = rpt.table_entry(
+                result, input_name=str(rel), sheet=table.sheet,
+                output=str(rel_out) if out_dir else None, header_row=table.header_row,
+                warnings=table.warnings)
+            outcome.entries.append(entry)
+            outcome.unresolved += unresolved
+            outcome.plans.append(table_plan)
+            if str(rel_out) not in outcome.outputs:
+                outcome.outputs.append(str(rel_out))
+        if out_dir is not None:
+            _write_outputs(pending, out_dir, inputs)
+    except (SourceError, RunError) as exc:
+        outcome.error = str(exc)
+    except (OSError, ValueError) as exc:
+        outcome.error = f"{rel}: {exc}"
+    return outcome
+
+
+def _relative_names(paths: Sequence[str | Path]) -> list[tuple[Path, Path]]:
+    """(path, name relative to the folder it was found in) for every input file."""
+    found = []
+    for given in paths:
+        given = Path(given)
+        for path in find_inputs([given]):
+            rel = path.relative_to(given) if given.is_dir() else Path(path.name)
+            found.append((path, rel))
+    return found
+
+
+def run(paths: Sequence[str | Path], out_dir: str | Path | None = None, *,
+        plan: Plan | None = None, options: Options | None = None, fmt: str | None = None,
+        jobs: int = 1, on_file: Callable[[FileOutcome], None] | None = None,
+        plan_source: str | Path | None = None) -> RunResult:
+    """Harmonise every input; write outputs and reports to ``out_dir`` when given."""
+    options = options or Options()
+    if fmt is not None and fmt not in OUTPUT_FORMATS:
+        raise RunError(f"unknown output format {fmt!r}; use one of {', '.join(OUTPUT_FORMATS)}")
+    out = Path(out_dir) if out_dir is not None else None
+    files = _relative_names(paths)
+    if out is not None:
+        out_resolved = out.resolve()
+        files = [(p, r) for p, r in files if out_resolved not in p.resolve().parents]
+    inputs = {p.resolve() for p, _ in files}
+    args = [(p, r, out, options, plan, fmt, inputs) for p, r in files]
+    outcomes = []
+    if jobs > 1 and len(args) > 1:
+        with ProcessPoolExecutor(max_workers=jobs) as pool:
+            for result in pool.map(_process_star, args):
+                outcomes.append(result)
+                if on_file:
+                    on_file(result)
+    else:
+        for arg in args:
+            result = process_file(*arg)
+            outcomes.append(result)
+            if on_file:
+                on_file(result)
+    report = _assemble(files, outcomes, options, plan_source)
+    new_plan = Plan(tables=[t for o in outcomes for t in o.plans], options=options.to_dict())
+    if out is not None:
+        _write_reports(out, report)
+    return RunResult(report=report, plan=new_plan, outcomes=outcomes)
+
+
+def _process_star(args: tuple) -> FileOutcome:
+    return process_file(*args)
+
+
+def _assemble(files: list[tuple[Path, Path]], outcomes: list[FileOutcome], options: Options,
+              plan_source: str | Path | None) -> dict[str, Any]:
+    entries = [e for o in outcomes for e in o.entries]
+    report: dict[str, Any] = {
+        "files": entries,
+        "unresolved": [u for o in outcomes for u in o.unresolved],
+        "errors": [{"file": o.input, "message": o.error} for o in outcomes if o.error],
+        "summary": rpt.summarise(entries),
+        "caution": rpt.CAUTION,
+        "provenance": rpt.provenance(),
+        "options": options.to_dict(),
+        "inputs": [{"file": str(rel), "sha256": rpt.sha256_file(path)} for path, rel in files],
+    }
+    if plan_source is not None:
+        report["plan"] = {"file": str(plan_source),
+                          "sha256": rpt.sha256_file(Path(plan_source))}
+    return report
+
+
+def _write_reports(out: Path, report: dict[str, Any]) -> None:
+    import json
+
+    from harmonize.html import render_html
+    from harmonize.sources import atomic_write_text
+    out.mkdir(parents=True, exist_ok=True)
+    atomic_write_text(out / rpt.REPORT_NAME, json.dumps(report, ensure_ascii=False, indent=1))
+    atomic_write_text(out / rpt.UNRESOLVED_NAME, rpt.unresolved_csv(report["unresolved"]))
+    atomic_write_text(out / rpt.HTML_NAME, render_html(report))
+
+
+def harmonize_frame(frame: pd.DataFrame, *, options: Options | None = None,
+                    plan: TablePlan | None = None, name: str = "<frame>"
+                    ) -> tuple[pd.DataFrame, dict[str, Any], TablePlan]:
+    """Harmonise a DataFrame of text: (output frame, report entry with its unresolved
+    cells under "unresolved", the plan used)."""
+    options = options or Options()
+    text = frame.astype(object).where(frame.notna(), "").astype(str).astype(object)
+    text.columns = [str(c) for c in frame.columns]
+    evidence = TableEvidence.from_frame(text, file=name)
+    table_plan = plan or decide_table(evidence, options)
+    result = apply_table(evidence, table_plan, options)
+    entry, unresolved = rpt.table_entry(result, input_name=name, sheet=None, output=None)
+    entry["unresolved"] = unresolved
+    return result.frame, entry, table_plan
+
+
+def cpu_count() -> int:
+    return max(1, len(os.sched_getaffinity(0)) if hasattr(os, "sched_getaffinity")
+               else os.cpu_count() or 1)

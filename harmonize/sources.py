@@ -1,0 +1,1077 @@
+"""Reading and writing harmonize's inputs and outputs.
+
+Every cell comes back as the exact text the file holds (no NA guessing, no
+stripping). Cells that a workbook or Parquet file stores *typed* (dates,
+numbers, booleans) are rendered as ISO / plain-decimal text and tagged in
+``Table.typed``, so engines can tell a real date cell from a date-looking
+string. Every write goes through a temp file in the destination folder and
+``os.replace``, so a destination is never seen half-written.
+
+Choices the interface leaves open:
+
+* An empty worksheet comes back as a Table with zero columns and a warning;
+  a workbook whose sheets are all empty raises ``SourceError`` ("empty file"),
+  like an empty CSV.
+* A delimited file with a single column reports ``CsvDialect.delimiter == ""``.
+* Trailing fully-empty rows are dropped everywhere; trailing columns whose
+  header and cells are all empty are dropped too (spreadsheet padding or a
+  trailing delimiter on every line, never data).
+* Workbook durations (``[h]:mm`` formats) are tagged ``"duration"``.
+"""
+
+from __future__ import annotations
+
+import collections
+import contextlib
+import csv
+import datetime as dt
+import decimal
+import io
+import itertools
+import os
+import re
+import tempfile
+import unicodedata
+import warnings
+import zipfile
+from collections.abc import Callable, Iterable, Sequence
+from dataclasses import dataclass, field
+from pathlib import Path
+from typing import IO, Any
+
+import numpy as np
+import pandas as pd
+
+__all__ = [
+    "SUPPORTED_SUFFIXES",
+    "CsvDialect",
+    "SourceError",
+    "Table",
+    "atomic_write_text",
+    "find_inputs",
+    "read_tables",
+    "sniff_csv",
+    "write_table",
+    "write_workbook",
+]
+
+SUPPORTED_SUFFIXES: frozenset[str] = frozenset(
+    {".csv", ".tsv", ".txt", ".xlsx", ".xlsm", ".ods", ".parquet"}
+)
+_DELIMITED = frozenset({".csv", ".tsv", ".txt"})
+_WORKBOOKS = frozenset({".xlsx", ".xlsm"})
+_CANDIDATE_DELIMITERS = (",", ";", "\t", "|")
+# Separators for parsing a one-column file: control characters that text data
+# practically never holds (the first one absent from the text is used).
+_NO_SPLIT_SEPARATORS = ("\x1f", "\x1e", "\x1d", "\x1c")
+_SNIFF_CHARS = 65_536
+# A line made only of these (",,," or ";;") above the header is an empty row.
+_BLANKISH = " \t" + "".join(_CANDIDATE_DELIMITERS)
+_SNIFF_RECORDS = 200
+_ENCODING_CANDIDATES = ["cp1252", "cp1250", "cp1251", "latin_1", "shift_jis", "gb18030"]
+_OLE_MAGIC = b"\xd0\xcf\x11\xe0\xa1\xb1\x1a\xe1"
+_XLSX_MAX_ROWS = 1_048_576
+_MAX_LISTED_ROWS = 10
+
+
+class SourceError(ValueError):
+    """One clear line naming file (and sheet/row/column where known).
+
+    ``str(e)`` reads "path: sheet 'S': row 7: reason"; absent parts are left out.
+    """
+
+    def __init__(
+        self,
+        path: str | os.PathLike[str],
+        reason: str,
+        *,
+        sheet: str | None = None,
+        row: int | None = None,
+        column: str | None = None,
+    ) -> None:
+        self.path = str(path)
+        self.sheet = sheet
+        self.row = row
+        self.column = column
+        self.reason = re.sub(r"\s*[\r\n]+\s*", " ", str(reason))  # always one line
+        parts = [self.path]
+        if sheet is not None:
+            parts.append(f"sheet '{sheet}'")
+        if row is not None:
+            parts.append(f"row {row}")
+        parts.append(self.reason)
+        super().__init__(": ".join(parts))
+
+    def __reduce__(self) -> tuple[Any, ...]:
+        # keyword-only fields: the default exception pickling would lose them,
+        # and errors cross process boundaries when folders are read in a pool
+        return (_rebuild_source_error, (self.path, self.reason, self.sheet, self.row, self.column))
+
+
+def _rebuild_source_error(
+    path: str, reason: str, sheet: str | None, row: int | None, column: str | None
+) -> SourceError:
+    return SourceError(path, reason, sheet=sheet, row=row, column=column)
+
+
+@dataclass
+class CsvDialect:
+    encoding: str  # Python codec name actually used
+    delimiter: str  # "" for a one-column file
+    bom: bool
+
+
+@dataclass
+class Table:
+    """One sheet (or the one table of a CSV/Parquet file), every cell as text."""
+
+    path: Path
+    sheet: str | None
+    frame: pd.DataFrame
+    header_row: int
+    typed: dict[str, dict[str, str]]
+    formats: dict[str, collections.Counter[str]]
+    dialect: CsvDialect | None
+    date1904: bool = False
+    warnings: list[str] = field(default_factory=list)
+
+
+# --------------------------------------------------------------------------
+# Finding inputs
+
+
+def find_inputs(paths: Sequence[str | Path]) -> list[Path]:
+    """Files as given plus supported files found under folders, in order.
+
+    Folders are walked recursively and sorted; hidden files/folders and
+    "~$" lock files are skipped. A missing path, or a file given by name
+    with an unsupported suffix, raises SourceError.
+    """
+    found: dict[Path, None] = {}  # ordered set: a file named twice is read once
+    for given in paths:
+        path = Path(given)
+        if path.is_dir():
+            found.update(dict.fromkeys(_walk(path)))
+        elif path.is_file():
+            _check_suffix(path)
+            found[path] = None
+        else:
+            raise SourceError(path, "no such file or folder")
+    return list(found)
+
+
+def _walk(folder: Path) -> list[Path]:
+    """Supported files under folder, sorted by path."""
+    files: list[Path] = []
+    for root, dirs, names in os.walk(folder):
+        dirs[:] = [d for d in dirs if not _skipped_name(d)]  # prunes the walk
+        files.extend(
+            Path(root, n)
+            for n in sorted(names)
+            if not _skipped_name(n) and Path(n).suffix.lower() in SUPPORTED_SUFFIXES
+        )
+    return sorted(files)
+
+
+def _skipped_name(name: str) -> bool:
+    # dot-files are hidden; "~$book.xlsx" is an office lock file, not data
+    return name.startswith((".", "~$"))
+
+
+def _check_suffix(path: Path) -> None:
+    if path.suffix.lower() not in SUPPORTED_SUFFIXES:
+        supported = ", ".join(sorted(SUPPORTED_SUFFIXES))
+        raise SourceError(path, f"unsupported file type '{path.suffix}' (supported: {supported})")
+
+
+# --------------------------------------------------------------------------
+# Reading: dispatch
+
+
+def read_tables(path: Path, *, max_cells: int = 50_000_000) -> list[Table]:
+    """Read one input file: one Table per worksheet, one for CSV/Parquet."""
+    path = Path(path)
+    if path.is_dir():
+        raise SourceError(path, "is a folder, not a file")
+    if not path.exists():
+        raise SourceError(path, "no such file")
+    _check_suffix(path)
+    suffix = path.suffix.lower()
+    try:
+        if path.stat().st_size == 0:
+            raise SourceError(path, "empty file")
+        if suffix in _DELIMITED:
+            return [_read_delimited(path, max_cells)]
+        if suffix in _WORKBOOKS:
+            return _read_xlsx(path, max_cells)
+        if suffix == ".ods":
+            return _read_ods(path, max_cells)
+        return [_read_parquet(path, max_cells)]
+    except OSError as exc:
+        raise SourceError(path, f"cannot read: {exc.strerror or exc}") from exc
+
+
+def _check_cells(path: Path, sheet: str | None, rows: int, cols: int, limit: int) -> None:
+    if rows * cols > limit:
+        where = f"sheet '{sheet}' has" if sheet is not None else "has"
+        raise SourceError(path, f"{where} {rows * cols} cells, over the limit {limit}")
+
+
+# --------------------------------------------------------------------------
+# Delimited text: encoding
+
+
+def sniff_csv(raw: bytes) -> CsvDialect:
+    """Encoding, BOM and delimiter of delimited text given as bytes."""
+    text, encoding, bom = _decode(raw, "<data>")
+    return CsvDialect(encoding, _detect_delimiter(text[:_SNIFF_CHARS]), bom)
+
+
+_BOMS = (  # UTF-32 first: its LE BOM starts with the UTF-16 LE BOM
+    (b"\xff\xfe\x00\x00", "utf-32"),
+    (b"\x00\x00\xfe\xff", "utf-32"),
+    (b"\xef\xbb\xbf", "utf-8-sig"),
+    (b"\xff\xfe", "utf-16"),
+    (b"\xfe\xff", "utf-16"),
+)
+
+
+def _decode(raw: bytes, where: str | Path) -> tuple[str, str, bool]:
+    """Return (text, codec, had_bom); SourceError for binary content."""
+    for bom, codec in _BOMS:
+        if raw.startswith(bom):
+            return _strict(raw, codec, where), codec, True
+    if b"\x00" in raw:
+        codec = _bomless_utf16(raw[:_SNIFF_CHARS])
+        if codec is None:
+            raise _binary(where)
+        return _strict(raw, codec, where), codec, False
+    text: str | None = _decodes(raw, "utf-8")
+    codec = "utf-8"
+    if text is None:
+        codec, text = _legacy_decode(raw)
+        if text is None:
+            raise _binary(where)
+    if _mostly_control(text[:_SNIFF_CHARS]):
+        raise _binary(where)
+    return text, codec, False
+
+
+def _legacy_decode(raw: bytes) -> tuple[str, str | None]:
+    """Guess on a sample first; the whole file only if the sample's guess fails."""
+    codec = _guess_codec(raw[:_SNIFF_CHARS])
+    text = _decodes(raw, codec) if codec else None
+    if text is None and len(raw) > _SNIFF_CHARS:
+        codec = _guess_codec(raw)
+        text = _decodes(raw, codec) if codec else None
+    return codec or "", text
+
+
+def _binary(where: str | Path) -> SourceError:
+    return SourceError(where, "not a text file (binary content)")
+
+
+def _strict(raw: bytes, codec: str, where: str | Path) -> str:
+    try:
+        return raw.decode(codec)
+    except UnicodeDecodeError:
+        raise _binary(where) from None
+
+
+def _bomless_utf16(sample: bytes) -> str | None:
+    # UTF-16 text of mostly Latin script has NUL in every other byte.
+    even, odd = sample[0::2], sample[1::2]
+    if not odd:
+        return None
+    even_nul, odd_nul = even.count(0) / len(even), odd.count(0) / len(odd)
+    if odd_nul > 0.3 and even_nul < 0.05:
+        return "utf-16-le"
+    if even_nul > 0.3 and odd_nul < 0.05:
+        return "utf-16-be"
+    return None
+
+
+def _guess_codec(raw: bytes) -> str | None:
+    """Pick a legacy codec, leaning to cp1252 where the detector cannot tell.
+
+    charset-normalizer reports cp1250 (or others) for short Western samples
+    with full confidence, although cp1252 produced them. So when it has not
+    ruled cp1252 out, cp1252 competes with the other Latin code pages on one
+    sign of a wrong code page, symbols wedged inside words ('Wroc³aw'), and
+    wins ties.
+    """
+    from charset_normalizer import from_bytes
+
+    matches = list(from_bytes(raw, cp_isolation=_ENCODING_CANDIDATES))
+    western = _decodes(raw, "cp1252")
+    if not matches:
+        return "cp1252" if western is not None and not _mostly_control(western) else None
+    best = matches[0]
+    rival = next((m for m in matches if "cp1252" in (m.encoding, *m.could_be_from_charset)), None)
+    if western is None or rival is None:
+        return best.encoding
+    if best.encoding not in _LATIN_CODECS and best.coherence > rival.coherence:
+        return best.encoding  # e.g. Cyrillic the detector recognises as a language
+    pool = [("cp1252", western)]
+    pool += [(m.encoding, str(m)) for m in matches if m.encoding in _LATIN_CODECS]
+    return min(pool, key=lambda item: _midword_symbols(item[1]))[0]  # min keeps the first on ties
+
+
+_LATIN_CODECS = ("cp1252", "cp1250", "latin_1")
+
+
+def _decodes(raw: bytes, codec: str) -> str | None:
+    try:
+        return raw.decode(codec)
+    except UnicodeDecodeError:
+        return None
+
+
+_LETTER_CLASS = r"[^\W\d_]"
+
+
+def _midword_symbols(text: str) -> int:
+    """Count non-letters wedged between letters ('Wroc³aw'): typical of a wrong codepage."""
+    odd = {
+        c for c in set(text) if ord(c) > 127 and not unicodedata.category(c).startswith(("L", "M"))
+    }
+    if not odd:
+        return 0
+    cls = "[" + "".join(re.escape(c) for c in odd) + "]"
+    return len(re.findall(f"(?<={_LETTER_CLASS}){cls}(?={_LETTER_CLASS})", text))
+
+
+def _mostly_control(text: str) -> bool:
+    if not text:
+        return False
+    controls = sum(text.count(chr(c)) for c in range(32) if chr(c) not in "\t\n\r\f\v")
+    return controls / len(text) > 0.05
+
+
+# --------------------------------------------------------------------------
+# Delimited text: delimiter
+
+
+def _detect_delimiter(sample: str) -> str:
+    """The delimiter that splits the sample's records most consistently.
+
+    The header (first non-blank record) fixes the column count, so a candidate
+    must give it more than one field; data records are scored on how many
+    match that count, minus how many overflow it. csv.Sniffer breaks ties.
+    """
+    scores: dict[str, float] = {}
+    for delim in _CANDIDATE_DELIMITERS:
+        counts = _sample_field_counts(sample, delim)
+        if not counts or counts[0] <= 1:
+            continue
+        header, data = counts[0], counts[1:]
+        exact = sum(c == header for c in data) / len(data) if data else 1.0
+        over = sum(c > header for c in data) / len(data) if data else 0.0
+        if exact >= 0.5:
+            scores[delim] = exact - over
+    if not scores:
+        return ""
+    top = max(scores.values())
+    tied = [d for d in _CANDIDATE_DELIMITERS if scores.get(d) == top]
+    return tied[0] if len(tied) == 1 else _sniffer_pick(sample, tied)
+
+
+def _sample_field_counts(sample: str, delim: str) -> list[int]:
+    reader = csv.reader(
+        io.StringIO(sample, newline=""), delimiter=delim, quotechar='"', strict=False
+    )
+    records = list(itertools.islice(reader, _SNIFF_RECORDS + 1))
+    if len(sample) >= _SNIFF_CHARS and records:
+        records.pop()  # the cut may have split the last record
+    return [len(r) for r in records if any(f.strip(_BLANKISH) for f in r)]
+
+
+def _sniffer_pick(sample: str, tied: list[str]) -> str:
+    try:
+        guess = csv.Sniffer().sniff(sample, delimiters="".join(tied)).delimiter
+    except csv.Error:
+        guess = ""
+    return guess if guess in tied else tied[0]
+
+
+# --------------------------------------------------------------------------
+# Delimited text: parsing
+
+
+def _read_delimited(path: Path, max_cells: int) -> Table:
+    text, encoding, bom = _decode(path.read_bytes(), path)
+    if not text.strip():
+        raise SourceError(path, "empty file")
+    forced = "\t" if path.suffix.lower() == ".tsv" else None
+    delim = forced if forced is not None else _detect_delimiter(text[:_SNIFF_CHARS])
+    lead = _leading_blank_lines(text)
+    body = text[lead:]
+    header_row = len(_LINE_BREAK.findall(text, 0, lead)) + 1
+    raw = _parse_body(path, body, delim, header_row)
+    notes: list[str] = []
+    padded = _padded_rows(body, delim, raw, header_row)
+    if padded:
+        notes.append(f"ragged rows {_row_list(padded)} padded with empty cells")
+    frame = _drop_trailing_empty(raw.iloc[1:].reset_index(drop=True), raw.iloc[0])
+    header = [str(v) for v in raw.iloc[0, : frame.shape[1]]]
+    frame.columns = pd.Index(_name_columns(path, None, header, notes), dtype=object)
+    _check_cells(path, None, *frame.shape, max_cells)
+    dialect = CsvDialect(encoding, delim, bom)
+    return Table(path, None, frame, header_row, {}, {}, dialect, False, notes)
+
+
+_LINE_BREAK = re.compile(r"\r\n|\r|\n")
+
+
+def _leading_blank_lines(text: str) -> int:
+    """Length of the lines above the header that hold only spaces or delimiters (",,,")."""
+    chars = re.escape(_BLANKISH)
+    match = re.match(rf"(?:[{chars}]*(?:\r\n|\r|\n))*", text)
+    return match.end() if match else 0
+
+
+def _parse_body(path: Path, body: str, delim: str, header_row: int) -> pd.DataFrame:
+    """All records as object-dtype text; the first row is the header."""
+    sep = delim or next((s for s in _NO_SPLIT_SEPARATORS if s not in body), None)
+    if sep is None:
+        raise SourceError(path, "cannot split a one-column file (control characters in the text)")
+    try:
+        return pd.read_csv(
+            io.StringIO(body),
+            sep=sep,
+            header=None,
+            dtype=object,
+            keep_default_na=False,
+            na_filter=False,
+            skip_blank_lines=False,  # blank lines are rows: keeps spreadsheet row numbers
+            quotechar='"',
+            doublequote=True,
+            engine="c",
+            low_memory=False,
+        )
+    except pd.errors.ParserError as exc:
+        raise _parse_error(path, body, delim, header_row, exc) from None
+
+
+def _parse_error(path: Path, body: str, delim: str, header_row: int, exc: Exception) -> SourceError:
+    """Turn the parser's message into one naming the spreadsheet row."""
+    unclosed = re.search(r"EOF inside string starting at row (\d+)", str(exc))
+    if unclosed:  # the parser counts records from 0, the header being record 0
+        row = header_row + int(unclosed.group(1))
+        return SourceError(path, "unclosed quote: the field runs to the end of the file", row=row)
+    # error path only, so the exact (slower) csv-module count is fine here
+    counts = _csv_field_counts(body, delim)
+    over = np.flatnonzero(counts > counts[0]) if len(counts) else counts
+    if not len(over):
+        return SourceError(path, f"cannot parse: {exc}")
+    first = int(over[0])
+    return SourceError(
+        path, f"expected {counts[0]} fields, found {counts[first]}", row=header_row + first
+    )
+
+
+def _csv_field_counts(body: str, delim: str) -> np.ndarray:
+    reader = csv.reader(io.StringIO(body, newline=""), delimiter=delim or "\x1f", strict=False)
+    return np.array([max(len(r), 1) for r in reader], dtype=int)
+
+
+def _record_field_counts(body: str, delim: str, records: int) -> np.ndarray:
+    """Fields per record, quote-aware, computed on whole columns of lines.
+
+    Quoted fields (which may hold delimiters and line breaks) are cut out
+    first, so each remaining line is one record. If a stray quote makes the
+    record count disagree with the parser's, the csv module counts instead.
+    """
+    quoted = re.compile(rf'(?:^|(?<=[{re.escape(delim)}\r\n]))"[^"]*(?:""[^"]*)*"')
+    lines = _LINE_BREAK.split(quoted.sub("", body) if '"' in body else body)
+    if lines and lines[-1] == "":
+        lines.pop()  # the final line break ends the last record
+    if len(lines) != records:
+        return _csv_field_counts(body, delim)
+    return pd.Series(lines, dtype=object).str.count(re.escape(delim)).to_numpy() + 1
+
+
+def _padded_rows(body: str, delim: str, raw: pd.DataFrame, header_row: int) -> list[int]:
+    """Spreadsheet row numbers of data rows that had fewer fields than the header."""
+    if not delim or raw.shape[1] < 2 or len(raw) < 2:
+        return []
+    data = raw.iloc[1:]
+    maybe = data.iloc[:, -1].eq("").to_numpy() & data.ne("").any(axis=1).to_numpy()
+    if not maybe.any():
+        return []  # a padded row always ends empty: skip counting fields
+    counts = _record_field_counts(body, delim, len(raw))[1:]
+    if len(counts) != len(maybe):
+        return []  # a stray quote the two parsers read differently: cannot tell
+    short = np.flatnonzero((counts < raw.shape[1]) & maybe)
+    return [header_row + 1 + int(i) for i in short]
+
+
+def _row_list(rows: list[int]) -> str:
+    shown = ", ".join(str(r) for r in rows[:_MAX_LISTED_ROWS])
+    extra = len(rows) - _MAX_LISTED_ROWS
+    return f"{shown} and {extra} more" if extra > 0 else shown
+
+
+def _drop_trailing_empty(frame: pd.DataFrame, header: pd.Series) -> pd.DataFrame:
+    """Drop trailing all-empty rows, and trailing columns empty in header and cells."""
+    filled = frame.ne("").to_numpy()
+    rows = np.flatnonzero(filled.any(axis=1))
+    frame = frame.iloc[: rows[-1] + 1 if len(rows) else 0]
+    col_filled = filled[: len(frame)].any(axis=0) | header.astype(str).str.strip().ne("").to_numpy()
+    cols = np.flatnonzero(col_filled)
+    return frame.iloc[:, : cols[-1] + 1 if len(cols) else 0].reset_index(drop=True)
+
+
+def _name_columns(path: Path, sheet: str | None, header: list[str], notes: list[str]) -> list[str]:
+    """Header texts as column labels: blanks get column_<n>, duplicates are an error."""
+    seen: dict[str, int] = {}
+    for i, name in enumerate(header):
+        if name.strip() and name in seen:
+            where = _column_ref(i, sheet)
+            raise SourceError(
+                path,
+                f"duplicate header '{name}' in {where} (first in {_column_ref(seen[name], sheet)})",
+                sheet=sheet,
+                column=name,
+            )
+        seen.setdefault(name, i)
+    names = list(header)
+    blank = [i for i, n in enumerate(names) if not n.strip()]
+    for i in blank:
+        candidate = f"column_{i + 1}"
+        while candidate in seen:
+            candidate += "_"
+        names[i] = candidate
+        seen[candidate] = i
+    if blank:
+        refs = ", ".join(_column_ref(i, sheet) for i in blank)
+        notes.append(f"blank header in {refs} named {', '.join(names[i] for i in blank)}")
+    return names
+
+
+def _column_ref(index: int, sheet: str | None) -> str:
+    if sheet is None:
+        return f"column {index + 1}"
+    from openpyxl.utils import get_column_letter
+
+    return f"column {get_column_letter(index + 1)}"
+
+
+# --------------------------------------------------------------------------
+# Typed cells -> text
+
+
+def _cell_text(value: Any, number_format: str | None = None) -> tuple[str, str | None]:
+    """Text and type tag of one workbook value (tag None for text cells)."""
+    if value is None:
+        return "", None
+    if isinstance(value, str):
+        return value, None
+    if isinstance(value, bool):
+        return ("TRUE" if value else "FALSE"), "boolean"
+    if isinstance(value, (int, np.integer)):
+        return str(int(value)), "number"
+    if isinstance(value, (float, np.floating)):
+        return _float_text(float(value)), "number"
+    if isinstance(value, decimal.Decimal):
+        return format(value, "f"), "number"
+    if isinstance(value, dt.datetime):
+        return _datetime_text(value, number_format)
+    if isinstance(value, dt.date):
+        return value.isoformat(), "date"
+    if isinstance(value, dt.time):
+        return _iso(value), "time"
+    if isinstance(value, dt.timedelta):
+        return _duration_text(value), "duration"
+    return str(value), None
+
+
+def _float_text(value: float) -> str:
+    if not np.isfinite(value):
+        return "NaN" if np.isnan(value) else ("inf" if value > 0 else "-inf")
+    # shortest digits that round-trip, always positional: 1234.5, 42, 0.0001
+    return np.format_float_positional(value, unique=True, trim="-")
+
+
+def _iso(value: dt.datetime | dt.time) -> str:
+    """ISO 8601 with a 'T', seconds always, a fraction only when present."""
+    if not value.microsecond:
+        return value.isoformat(timespec="seconds")
+    head, _, tail = value.isoformat(timespec="microseconds").partition(".")
+    return f"{head}.{tail[:6].rstrip('0')}{tail[6:]}"
+
+
+_FORMAT_NOISE = re.compile(r'"[^"]*"|\\.|\[(?![hms]+\])[^\]]*\]', re.I)
+
+
+def _format_shows_time(number_format: str | None) -> bool:
+    if not number_format:
+        return False
+    section = _FORMAT_NOISE.sub("", number_format.split(";")[0]).lower()
+    return re.search(r"[hs]|am/pm|a/p", section) is not None
+
+
+def _datetime_text(value: dt.datetime, number_format: str | None) -> tuple[str, str]:
+    midnight = value.time() == dt.time(0) and value.tzinfo is None
+    if midnight and not _format_shows_time(number_format):
+        return value.date().isoformat(), "date"
+    return _iso(value), "datetime"
+
+
+def _duration_text(value: dt.timedelta) -> str:
+    micros = round(value.total_seconds() * 1_000_000)
+    sign, micros = ("-" if micros < 0 else ""), abs(micros)
+    seconds, frac = divmod(micros, 1_000_000)
+    hours, rest = divmod(seconds, 3600)
+    text = f"{sign}{hours:02d}:{rest // 60:02d}:{rest % 60:02d}"
+    return f"{text}.{frac:06d}".rstrip("0") if frac else text
+
+
+# --------------------------------------------------------------------------
+# Workbooks: shared
+
+
+class _SheetBuilder:
+    """Collects one sheet's converted rows, per-column type tags and formats."""
+
+    def __init__(self) -> None:
+        self.header: list[str] | None = None
+        self.header_row = 1
+        self.rows: list[list[str]] = []
+        self.typed: dict[int, dict[str, str]] = collections.defaultdict(dict)
+        self.formats: dict[int, collections.Counter[str]] = collections.defaultdict(
+            collections.Counter
+        )
+
+    def add(self, row_number: int, cells: Iterable[tuple[Any, str | None]]) -> None:
+        texts: list[str] = []
+        for col, (value, number_format) in enumerate(cells):
+            text, tag = _cell_text(value, number_format)
+            texts.append(text)
+            if self.header is None or value is None:
+                continue
+            if tag is not None:
+                self.typed[col][text] = tag
+            if number_format:
+                self.formats[col][number_format] += 1
+        if self.header is not None:
+            self.rows.append(texts)
+        elif any(t.strip() for t in texts):
+            self.header, self.header_row = texts, row_number
+
+    def table(
+        self, path: Path, sheet: str, date1904: bool, notes: list[str], with_formats: bool
+    ) -> Table:
+        if self.header is None:
+            notes.append(f"sheet '{sheet}' is empty")
+            frame = pd.DataFrame(
+                index=pd.RangeIndex(0), columns=pd.Index([], dtype=object), dtype=object
+            )
+            return Table(path, sheet, frame, 1, {}, {}, None, date1904, notes)
+        width = max([len(self.header), *map(len, self.rows)])
+        rows = [r + [""] * (width - len(r)) for r in self.rows]  # sheets store no trailing empties
+        header = self.header + [""] * (width - len(self.header))
+        frame = pd.DataFrame(rows, columns=range(width), dtype=object)
+        frame = _drop_trailing_empty(frame, pd.Series(header, dtype=object))
+        names = _name_columns(path, sheet, header[: frame.shape[1]], notes)
+        frame.columns = pd.Index(names, dtype=object)
+        typed = {names[c]: tags for c, tags in self.typed.items() if c < len(names) and tags}
+        formats = (
+            {n: self.formats.get(c, collections.Counter()) for c, n in enumerate(names)}
+            if with_formats
+            else {}
+        )
+        return Table(path, sheet, frame, self.header_row, typed, formats, None, date1904, notes)
+
+
+def _all_empty(path: Path, tables: list[Table]) -> list[Table]:
+    if all(t.frame.shape[1] == 0 for t in tables):
+        raise SourceError(path, "empty file (no sheet holds any cell)")
+    return tables
+
+
+# --------------------------------------------------------------------------
+# XLSX / XLSM (openpyxl, streaming read-only)
+
+
+def _read_xlsx(path: Path, max_cells: int) -> list[Table]:
+    import openpyxl
+    from openpyxl.utils.datetime import CALENDAR_MAC_1904
+
+    _check_zip_container(path, "xl/workbook.xml", "workbook")
+    if not openpyxl.xml.DEFUSEDXML:
+        raise SourceError(
+            path, "refusing to read a workbook: XML protection (defusedxml) is not active"
+        )
+    try:
+        book = openpyxl.load_workbook(path, read_only=True, data_only=True, keep_links=False)
+    except (
+        zipfile.BadZipFile,
+        KeyError,
+        ValueError,
+        TypeError,
+        AttributeError,
+        SyntaxError,
+    ) as exc:
+        raise SourceError(path, f"not a readable workbook ({type(exc).__name__}: {exc})") from exc
+    try:
+        date1904 = book.epoch == CALENDAR_MAC_1904
+        tables = [_xlsx_sheet(path, ws, date1904, max_cells) for ws in book.worksheets]
+    finally:
+        book.close()
+    return _all_empty(path, tables)
+
+
+def _check_zip_container(path: Path, member: str, kind: str) -> None:
+    with path.open("rb") as handle:
+        head = handle.read(8)
+    if head.startswith(_OLE_MAGIC):
+        raise SourceError(
+            path,
+            f"password-protected (encrypted) or legacy binary {kind}:"
+            f" save it unprotected in {path.suffix} format",
+        )
+    if not head.startswith(b"PK"):
+        raise SourceError(path, f"not a {kind} (not a zip archive)")
+    try:
+        with zipfile.ZipFile(path) as archive:
+            names = set(archive.namelist())
+    except zipfile.BadZipFile as exc:
+        raise SourceError(path, f"corrupt or truncated {kind} ({exc})") from exc
+    if member not in names:
+        raise SourceError(path, f"not a {kind} (zip archive without {member})")
+
+
+def _xlsx_sheet(path: Path, ws: Any, date1904: bool, max_cells: int) -> Table:
+    declared = (ws.max_row or 0) * (ws.max_column or 0)
+    ws.reset_dimensions()  # stated dimensions can be wrong; read what is there
+    builder = _SheetBuilder()
+    width = cells = 0
+    with warnings.catch_warnings(record=True) as caught:
+        warnings.simplefilter("always")
+        try:
+            for number, row in enumerate(ws.iter_rows(min_row=1, min_col=1), start=1):
+                width = max(width, len(row))
+                cells = number * width
+                if cells > max_cells:
+                    size = f"{declared}" if declared >= cells else f"at least {cells}"
+                    raise SourceError(
+                        path, f"sheet '{ws.title}' has {size} cells, over the limit {max_cells}"
+                    )
+                builder.add(number, ((c.value, c.number_format) for c in row))
+        except SourceError:
+            raise
+        except (zipfile.BadZipFile, KeyError, ValueError, TypeError, SyntaxError) as exc:
+            raise SourceError(
+                path, f"corrupt sheet ({type(exc).__name__}: {exc})", sheet=ws.title
+            ) from exc
+    notes = [" ".join(str(w.message).split()) for w in caught]
+    return builder.table(path, ws.title, date1904, notes, with_formats=True)
+
+
+# --------------------------------------------------------------------------
+# ODS (python-calamine)
+
+
+def _read_ods(path: Path, max_cells: int) -> list[Table]:
+    from python_calamine import CalamineError, CalamineWorkbook
+
+    _check_zip_container(path, "content.xml", "spreadsheet")
+    try:
+        book = CalamineWorkbook.from_path(str(path))
+        try:
+            tables = [_ods_sheet(path, book, name, max_cells) for name in book.sheet_names]
+        finally:
+            book.close()
+    except CalamineError as exc:
+        raise SourceError(path, f"not a readable spreadsheet ({exc})") from exc
+    return _all_empty(path, tables)
+
+
+def _ods_sheet(path: Path, book: Any, name: str, max_cells: int) -> Table:
+    sheet = book.get_sheet_by_name(name)
+    _check_cells(path, name, sheet.total_height, sheet.total_width, max_cells)
+    builder = _SheetBuilder()
+    # skip_empty_area=False keeps leading empty rows so row numbers match the sheet
+    for number, row in enumerate(sheet.to_python(skip_empty_area=False), start=1):
+        builder.add(number, ((None if v == "" else v, None) for v in row))
+    return builder.table(path, name, False, [], with_formats=False)
+
+
+# --------------------------------------------------------------------------
+# Parquet (pyarrow)
+
+
+def _read_parquet(path: Path, max_cells: int) -> Table:
+    import pyarrow as pa
+    import pyarrow.parquet as pq
+
+    try:
+        meta = pq.read_metadata(path)
+        _check_cells(path, None, meta.num_rows, meta.num_columns, max_cells)
+        arrow = pq.read_table(path)
+    except (pa.ArrowException, OSError) as exc:
+        if isinstance(exc, (FileNotFoundError, PermissionError)):
+            raise
+        raise SourceError(path, f"not a readable Parquet file ({exc})") from exc
+    notes: list[str] = []
+    names = _name_columns(path, None, [str(n) for n in arrow.column_names], notes)
+    columns: dict[str, np.ndarray] = {}
+    typed: dict[str, dict[str, str]] = {}
+    for name, column in zip(names, arrow.columns, strict=True):
+        columns[name], tag = _arrow_text(path, name, column)
+        present = pd.unique(columns[name][columns[name] != ""])
+        if tag is not None and len(present):
+            typed[name] = dict.fromkeys(present, tag)
+    frame = pd.DataFrame(columns, dtype=object, index=pd.RangeIndex(arrow.num_rows))
+    frame.columns = pd.Index(names, dtype=object)
+    return Table(path, None, frame, 1, typed, {}, None, False, notes)
+
+
+def _arrow_text(path: Path, name: str, column: Any) -> tuple[np.ndarray, str | None]:
+    """A whole Arrow column as object text (nulls -> "") plus its type tag."""
+    import pyarrow as pa
+    import pyarrow.compute as pc
+
+    kind = column.type
+    if pa.types.is_dictionary(kind):
+        column, kind = column.cast(kind.value_type), kind.value_type
+    if pa.types.is_string(kind) or pa.types.is_large_string(kind) or pa.types.is_string_view(kind):
+        return _filled(column), None
+    if pa.types.is_null(kind):
+        return np.full(len(column), "", dtype=object), None
+    if pa.types.is_boolean(kind):
+        return _filled(pc.if_else(column, "TRUE", "FALSE")), "boolean"
+    if pa.types.is_integer(kind) or pa.types.is_decimal(kind):
+        return _filled(column.cast(pa.string())), "number"
+    if pa.types.is_timestamp(kind):
+        return _via_uniques(column, _timestamp_texts)
+    for test, tag in (
+        (pa.types.is_floating, "number"),
+        (pa.types.is_date, "date"),
+        (pa.types.is_time, "time"),
+        (pa.types.is_duration, "duration"),
+    ):
+        if test(kind):
+            return _via_uniques(
+                column, lambda values, tag=tag: ([_cell_text(v)[0] for v in values], tag)
+            )
+    if pa.types.is_binary(kind) or pa.types.is_large_binary(kind):
+        try:
+            return _filled(column.cast(pa.string())), None
+        except pa.ArrowInvalid as exc:
+            raise SourceError(
+                path, f"column '{name}' holds binary data that is not UTF-8 text", column=name
+            ) from exc
+    raise SourceError(path, f"column '{name}' has unsupported type {kind}", column=name)
+
+
+def _filled(column: Any) -> np.ndarray:
+    import pyarrow.compute as pc
+
+    return pc.fill_null(column, "").to_numpy(zero_copy_only=False).astype(object)
+
+
+def _via_uniques(
+    column: Any, convert: Callable[[list[Any]], tuple[list[str], str]]
+) -> tuple[np.ndarray, str | None]:
+    """Convert each distinct value once, then map the texts back onto the rows."""
+    import pyarrow.compute as pc
+
+    encoded = pc.dictionary_encode(column).combine_chunks()
+    uniques = encoded.dictionary.to_pylist()
+    texts, tag = convert(uniques)
+    lookup = np.array([*texts, ""], dtype=object)  # last slot stands for null
+    codes = pc.fill_null(encoded.indices, len(uniques)).to_numpy(zero_copy_only=False)
+    return lookup[codes], (tag if uniques else None)
+
+
+def _timestamp_texts(values: list[Any]) -> tuple[list[str], str]:
+    # Parquet types a whole column, so decide for the whole column:
+    # naive timestamps that are all at midnight are dates.
+    if all(v.tzinfo is None and v.time() == dt.time(0) for v in values):
+        return [v.date().isoformat() for v in values], "date"
+    return [_iso(v) for v in values], "datetime"
+
+
+# --------------------------------------------------------------------------
+# Writing (always atomic)
+
+
+def atomic_write_text(dest: Path, text: str) -> None:
+    """Write UTF-8 text with the newlines exactly as given."""
+    _atomic_write(Path(dest), lambda handle: handle.write(text.encode("utf-8")))
+
+
+def write_table(frame: pd.DataFrame, dest: Path, *, fmt: str) -> None:
+    """Write one table as text cells: fmt is "csv", "xlsx" or "parquet"."""
+    dest = Path(dest)
+    writers: dict[str, Callable[[IO[bytes]], None]] = {
+        "csv": lambda handle: _write_csv(frame, handle),
+        "xlsx": lambda handle: _write_xlsx({"Sheet1": frame}, dest, handle),
+        "parquet": lambda handle: _write_parquet(frame, handle),
+    }
+    if fmt not in writers:
+        raise SourceError(dest, f"unknown output format '{fmt}' (csv, xlsx, parquet)")
+    _atomic_write(dest, writers[fmt])
+
+
+def write_workbook(sheets: dict[str, pd.DataFrame], dest: Path) -> None:
+    """Write several tables as the sheets of one XLSX workbook."""
+    dest = Path(dest)
+    _check_sheet_names(dest, list(sheets))
+    _atomic_write(dest, lambda handle: _write_xlsx(sheets, dest, handle))
+
+
+def _atomic_write(dest: Path, write: Callable[[IO[bytes]], object]) -> None:
+    """Write to a hidden temp file beside dest, fsync, then rename over dest."""
+    try:
+        fd, tmp = tempfile.mkstemp(prefix=f".{dest.name}.", suffix=".tmp", dir=dest.parent)
+    except OSError as exc:
+        raise SourceError(dest, f"cannot write: {exc.strerror or exc}") from exc
+    try:
+        with os.fdopen(fd, "wb") as handle:
+            write(handle)
+            handle.flush()
+            os.fsync(handle.fileno())
+        os.chmod(tmp, _file_mode(dest))
+        os.replace(tmp, dest)
+    except BaseException:
+        with contextlib.suppress(OSError):
+            os.unlink(tmp)
+        raise
+    _fsync_folder(dest.parent)
+
+
+def _file_mode(dest: Path) -> int:
+    # mkstemp makes 0600 files; give the result the mode a plain open() would
+    with contextlib.suppress(OSError):
+        return dest.stat().st_mode & 0o7777
+    umask = os.umask(0)
+    os.umask(umask)
+    return 0o666 & ~umask
+
+
+def _fsync_folder(folder: Path) -> None:
+    # makes the rename itself durable; not possible on every platform
+    with contextlib.suppress(OSError, AttributeError):
+        fd = os.open(folder, os.O_RDONLY)
+        try:
+            os.fsync(fd)
+        finally:
+            os.close(fd)
+
+
+def _text_columns(frame: pd.DataFrame) -> list[np.ndarray]:
+    """Each column as an object array of str or None (missing)."""
+    out = []
+    for i in range(frame.shape[1]):
+        col = frame.iloc[:, i]
+        values = col.astype(object).to_numpy()
+        missing = col.isna().to_numpy()
+        if missing.any():
+            values = values.copy()
+            values[missing] = None
+        out.append(values)
+    return out
+
+
+def _write_csv(frame: pd.DataFrame, handle: IO[bytes]) -> None:
+    frame.to_csv(
+        handle,
+        index=False,
+        encoding="utf-8",
+        lineterminator="\n",
+        quoting=csv.QUOTE_MINIMAL,
+        na_rep="",
+    )
+
+
+def _write_parquet(frame: pd.DataFrame, handle: IO[bytes]) -> None:
+    import pyarrow as pa
+    import pyarrow.parquet as pq
+
+    arrays = [pa.array(_as_str(v), type=pa.string()) for v in _text_columns(frame)]
+    pq.write_table(pa.Table.from_arrays(arrays, names=[str(c) for c in frame.columns]), handle)
+
+
+def _as_str(values: np.ndarray) -> list[str | None]:
+    return [v if v is None or isinstance(v, str) else str(v) for v in values]
+
+
+_SHEET_NAME_BAD = re.compile(r"[\[\]:*?/\\]")
+
+
+def _check_sheet_names(dest: Path, names: list[str]) -> None:
+    if not names:
+        raise SourceError(dest, "a workbook needs at least one sheet")
+    seen: set[str] = set()
+    for name in names:
+        if not name or len(name) > 31 or _SHEET_NAME_BAD.search(name) or name.startswith("'"):
+            raise SourceError(
+                dest, f"invalid sheet name '{name}' (1-31 characters, none of []:*?/\\)"
+            )
+        if name.casefold() in seen:
+            raise SourceError(dest, f"duplicate sheet name '{name}'")
+        seen.add(name.casefold())
+
+
+def _write_xlsx(sheets: dict[str, pd.DataFrame], dest: Path, handle: IO[bytes]) -> None:
+    from openpyxl import Workbook
+
+    for name, frame in sheets.items():
+        _check_xlsx_text(dest, name, frame)  # fail before writing anything
+    book = Workbook(write_only=True)
+    try:
+        for name, frame in sheets.items():
+            ws = book.create_sheet(title=name)
+            ws.append([_xlsx_text(ws, c) for c in frame.columns])
+            columns = _text_columns(frame)
+            for i in range(len(frame)):
+                ws.append([_xlsx_text(ws, col[i]) for col in columns])
+        book.save(handle)
+    except BaseException:
+        _discard_sheets(book)
+        raise
+
+
+def _check_xlsx_text(dest: Path, sheet: str, frame: pd.DataFrame) -> None:
+    from openpyxl.cell.cell import ILLEGAL_CHARACTERS_RE
+
+    if len(frame) + 1 > _XLSX_MAX_ROWS:
+        raise SourceError(dest, f"{len(frame)} rows do not fit in one XLSX sheet", sheet=sheet)
+    labels = pd.Series([str(c) for c in frame.columns], dtype=object)
+    for row, values in [(1, labels), *((None, pd.Series(c)) for c in _text_columns(frame))]:
+        bad = np.flatnonzero(values.str.contains(ILLEGAL_CHARACTERS_RE, na=False).to_numpy())
+        if len(bad):
+            text = values.iloc[bad[0]]
+            raise SourceError(
+                dest,
+                f"control character not allowed in XLSX: {text[:40]!r}",
+                sheet=sheet,
+                row=row or int(bad[0]) + 2,
+            )
+
+
+def _xlsx_text(ws: Any, value: Any) -> Any:
+    """A value openpyxl will store as a string: '=…' must not become a formula, '#N/A' no error."""
+    from openpyxl.cell import WriteOnlyCell
+    from openpyxl.cell.cell import ERROR_CODES
+
+    if value is None:
+        return None
+    text = value if isinstance(value, str) else str(value)
+    if not text.startswith("=") and text not in ERROR_CODES:
+        return text
+    cell = WriteOnlyCell(ws, value=text)
+    cell.data_type = "s"
+    return cell
+
+
+def _discard_sheets(book: Any) -> None:
+    # close half-written write-only sheets and delete openpyxl's own temp files
+    for ws in book.worksheets:
+        with contextlib.suppress(Exception):
+            ws.close()
+        with contextlib.suppress(Exception):
+            ws._writer.cleanup()

@@ -1,0 +1,68 @@
+"""Recognise countries (and territories) written as names or ISO 3166 codes.
+
+Names come from CLDR via babel in the languages listed below, codes from ISO 3166-1
+via pycountry (alpha-2 and alpha-3), plus the short forms in
+``locales/territory_aliases.txt``. Other engines use a recognised country column as a
+per-row locale hint (date order, decimal marks, phone region).
+"""
+
+from __future__ import annotations
+
+import unicodedata
+from functools import cache
+
+import pycountry
+from babel import Locale
+
+from harmonize.locales import load_entries
+
+NAME_LANGUAGES = ("en", "de", "fr", "es", "it", "nl", "pt", "sv", "da", "nb", "fi", "pl",
+                  "cs", "hu", "ro", "el", "tr", "ru", "ja", "zh", "ko")
+
+
+def fold(text: str) -> str:
+    """Case, accents, punctuation and spacing folded away: 'Côte d’Ivoire' -> 'cotedivoire'."""
+    decomposed = unicodedata.normalize("NFKD", text.casefold())
+    return "".join(ch for ch in decomposed if ch.isalnum())
+
+
+@cache
+def _name_table() -> dict[str, str]:
+    table: dict[str, str] = {}
+    for lang in NAME_LANGUAGES:
+        for code, name in Locale.parse(lang).territories.items():
+            if len(code) == 2 and code.isalpha() and code not in ("ZZ", "EU", "EZ", "UN", "QO"):
+                table.setdefault(fold(name), code)
+    for code, names in load_entries("territory_aliases").items():
+        for name in names:
+            table[fold(name)] = code
+    return table
+
+
+@cache
+def _code_table() -> dict[str, str]:
+    codes: dict[str, str] = {}
+    for country in pycountry.countries:
+        codes[country.alpha_2] = country.alpha_2
+        codes[country.alpha_3] = country.alpha_2
+    codes["UK"] = "GB"  # exceptionally reserved ISO 3166-1 code, common practice
+    return codes
+
+
+def territory_of(value: str) -> str | None:
+    """ISO 3166-1 alpha-2 code for a country name or code, else None."""
+    text = value.strip()
+    if not text:
+        return None
+    if len(text) <= 3 and text.isalpha():
+        return _code_table().get(text.upper())
+    return _name_table().get(fold(text))
+
+
+def territory_share(values: list[str], counts: list[int]) -> float:
+    """Share of cells (by count) naming a territory."""
+    total = sum(counts)
+    if not total:
+        return 0.0
+    hits = sum(c for v, c in zip(values, counts) if territory_of(v))
+    return hits / total

@@ -1,0 +1,160 @@
+"""Evidence, missing values, identifiers, plans and the apply step, on DataFrames."""
+
+from __future__ import annotations
+
+import numpy as np
+import pandas as pd
+import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
+
+from harmonize.apply import apply_table
+from harmonize.decide import decide_table
+from harmonize.engines.base import Outcome
+from harmonize.engines.identifiers import IdentifierEngine
+from harmonize.engines.missing import find_missing
+from harmonize.evidence import ColumnEvidence, TableEvidence
+from harmonize.options import Options
+from harmonize.pipeline import harmonize_frame
+from harmonize.plan import Plan, PlanError, dumps, loads
+
+
+def column(values: list[str], name: str = "c") -> ColumnEvidence:
+    return ColumnEvidence.from_series(name, 0, pd.Series(values, dtype=object))
+
+
+class TestEvidence:
+    def test_distinct_values_and_counts(self) -> None:
+        col = column(["a", "b", "a", "", "a"])
+        tally = dict(zip(col.values.tolist(), col.counts.tolist()))
+        assert tally == {"a": 3, "b": 1, "": 1}
+        assert col.total == 5
+        assert [col.values[c] for c in col.codes] == ["a", "b", "a", "", "a"]
+
+    def test_subset_keeps_row_order_with_gaps(self) -> None:
+        col = column(["x", "N/A", "y", "x"])
+        keep = col.values != "N/A"
+        sub = col.subset(keep)
+        assert sub.total == 3
+        assert sub.codes.tolist()[1] == -1
+        assert [sub.values[c] for c in sub.codes if c >= 0] == ["x", "y", "x"]
+
+    def test_merge_adds_counts(self) -> None:
+        merged = column(["a", "b"]).merge(column(["b", "c", "c"]))
+        assert dict(zip(merged.values.tolist(), merged.counts.tolist())) == {
+            "a": 1, "b": 2, "c": 2}
+        assert merged.codes is None
+
+    def test_by_group(self) -> None:
+        col = column(["1", "2", "1", "3"])
+        parts = col.by_group(np.array([0, 1, 0, -1]), 2)
+        assert parts[0].values.tolist() == ["1"] and parts[0].counts.tolist() == [2]
+        assert parts[1].values.tolist() == ["2"]
+
+
+class TestMissing:
+    @pytest.mark.parametrize("word", ["", "  ", "N/A", "n/a", "NA", "null", "NULL", "None",
+                                      "-", "--", "?", "k.A.", "n.d.", "s.o.", "n.v.", "#N/A"])
+    def test_words(self, word: str) -> None:
+        rule = find_missing(column([word, "7"]))
+        assert rule.mask(np.array([word], dtype=object)).all()
+
+    def test_placeholder_emails(self) -> None:
+        # RFC 2606 §2-3 reserves example.com/.net/.org and the .test, .example, .invalid
+        # top-level domains for documentation and testing.
+        values = ["a@example.com", "b@mail.example.org", "c@shop.invalid", "d@qmp-trade.biz"]
+        rule = find_missing(column(values))
+        assert rule.mask(np.array(values, dtype=object)).tolist() == [True, True, True, False]
+
+    def test_sentinel_needs_the_column_to_show_it(self) -> None:
+        heights = [str(v) for v in range(150, 200)] + ["-999"]
+        assert "-999" in find_missing(column(heights)).tokens
+        # common practice, no source: -999 among other negative numbers is a value
+        balances = [str(v) for v in range(-1500, 1500, 50)] + ["-999"]
+        assert "-999" not in find_missing(column(balances)).tokens
+
+    def test_extra_words_from_options(self) -> None:
+        rule = find_missing(column(["pending", "4"]), Options(missing_words=("Pending",)))
+        assert "pending" in rule.tokens
+
+
+class TestIdentifiers:
+    def decide(self, values: list[str], name: str = "c"):
+        table = TableEvidence.from_frame(pd.DataFrame({name: values}))
+        from harmonize.context import Context
+        return IdentifierEngine().propose(table.columns[0], Context(table))
+
+    def test_leading_zeros(self) -> None:
+        assert self.decide(["00123", "04567", "12345"]).kind == "identifier"
+
+    def test_long_digit_strings(self) -> None:
+        # IEEE 754 binary64 keeps 53 bits: 18-digit account numbers do not survive a float
+        assert float("993237719993486486") != 993237719993486486
+        assert self.decide(["993237719993486486", "618590134459644561"]) is not None
+
+    def test_plain_amounts_are_not_identifiers(self) -> None:
+        assert self.decide(["12", "1200", "45", "7"]) is None
+
+    def test_header_and_fixed_width(self) -> None:
+        assert self.decide(["1234", "5678", "9012"], name="Postcode") is not None
+
+    def test_identifiers_kept_exactly(self) -> None:
+        frame = pd.DataFrame({"Account number": ["007", "0420", "99"]})
+        out, entry, _ = harmonize_frame(frame)
+        assert out["Account number"].tolist() == ["007", "0420", "99"]
+        assert entry["columns"][0]["kind"] == "identifier"
+
+
+class TestPlan:
+    def test_round_trip_and_edit(self) -> None:
+        frame = pd.DataFrame({"Customer ID": ["007", "N/A"], "Town": [" Harrowdene", "x"]})
+        table = decide_table(TableEvidence.from_frame(frame, "t.csv"))
+        text = dumps(Plan([table], {"unresolved_fill": "empty"}))
+        again = loads(text)
+        assert [c.name for c in again.tables[0].columns] == ["Customer ID", "Town"]
+        assert again.tables[0].columns[0].missing == ["n/a"]
+
+    def test_errors_name_line_and_field(self) -> None:
+        table = decide_table(TableEvidence.from_frame(pd.DataFrame({"a": ["1"]}), "t.csv"))
+        text = dumps(Plan([table]))
+        bad = text.replace("confidence = ", "confidence = 7 #")
+        with pytest.raises(PlanError) as err:
+            loads(bad, "p.toml")
+        line = next(i for i, s in enumerate(bad.splitlines(), 1) if "confidence" in s)
+        assert f"line {line}" in str(err.value) and "'confidence'" in str(err.value)
+
+    def test_not_toml(self) -> None:
+        with pytest.raises(PlanError, match="not a valid plan file"):
+            loads("[[tables]\n", "p.toml")
+
+    def test_toml_strings_survive(self) -> None:
+        # TOML 1.0 basic strings: quotes, backslashes and control characters escaped
+        from harmonize.plan import ColumnPlan, TablePlan
+        odd = 'we"ird\\ \t na\x7fme ü'
+        plan = Plan([TablePlan("f.csv", None, [ColumnPlan(odd, "text", "text", 0.5)])])
+        assert loads(dumps(plan)).tables[0].columns[0].name == odd
+
+
+def test_plan_rejects_unknown_kind() -> None:
+    frame = pd.DataFrame({"Customer ID": ["007", "N/A"]})
+    table = decide_table(TableEvidence.from_frame(frame, "t.csv"))
+    text = dumps(Plan([table])).replace('kind = "identifier"', 'kind = "banana"')
+    with pytest.raises(PlanError, match="unknown kind 'banana'"):
+        loads(text, "p.toml")
+
+
+cells = st.text(alphabet=st.sampled_from(list("0123456789.,-/ aAkgé€$:NnT+")), max_size=12)
+
+
+@settings(max_examples=60, deadline=None)
+@given(st.lists(st.tuples(cells, cells, cells), min_size=1, max_size=30))
+def test_every_cell_has_exactly_one_outcome(rows: list[tuple[str, str, str]]) -> None:
+    frame = pd.DataFrame(rows, columns=["a", "b", "c"], dtype=object)
+    evidence = TableEvidence.from_frame(frame)
+    result = apply_table(evidence, decide_table(evidence))
+    for col in result.columns:
+        assert len(col.outcome) == len(frame)
+        assert set(np.unique(col.outcome)) <= {int(o) for o in Outcome}
+        assert sum(col.counts().values()) == len(frame)
+        unresolved_rows = {cell["offset"] for cell in col.unresolved}
+        assert unresolved_rows == set(np.nonzero(col.outcome == Outcome.UNRESOLVED)[0])
