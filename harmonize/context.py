@@ -19,6 +19,7 @@ from harmonize.options import Options
 from harmonize.territory import territory_of
 
 MAX_GROUPS = 60          # a column with more labels than this explains no split
+MIN_GROUP_ROWS = 5       # on average, else near-unique columns (amounts) would "explain"
 MIN_LABELLED = 0.9       # share of rows a split column must label
 COUNTRY_SHARE = 0.8      # share of labelled rows naming a territory for a country column
 
@@ -52,17 +53,21 @@ def _label_territory(label: str) -> str | None:
     return found
 
 
-def split_from(column: ColumnEvidence) -> Split | None:
-    """Group rows by a column's trimmed values, or None when it cannot be a split."""
+def split_from(column: ColumnEvidence, min_groups: int = 2) -> Split | None:
+    """Group rows by a column's trimmed values, or None when it cannot be a split.
+
+    ``min_groups=1`` accepts a column with one label (one branch's export names its
+    country on every row: no split, but still a locale hint)."""
     if column.codes is None or len(column.values) == 0:
         return None
     trimmed = pd.Series(column.values, dtype=object).str.strip()
     label_codes, labels = pd.factorize(trimmed.replace("", None), use_na_sentinel=True)
-    if not 2 <= len(labels) <= MAX_GROUPS:
+    if not min_groups <= len(labels) <= MAX_GROUPS:
         return None
     lookup = np.append(label_codes, -1)
     codes = lookup[column.codes]
-    if (codes >= 0).mean() < MIN_LABELLED:
+    labelled = int((codes >= 0).sum())
+    if labelled < MIN_LABELLED * len(codes) or len(labels) > max(2, labelled // MIN_GROUP_ROWS):
         return None
     labels_t = tuple(str(x) for x in labels)
     return Split(column.name, labels_t, codes, tuple(_label_territory(x) for x in labels_t))
@@ -107,8 +112,12 @@ class Context:
 
     @cached_property
     def country_split(self) -> Split | None:
-        """The column that best names each row's country, if any does."""
-        best = max(self._splits.values(), key=lambda s: s.territory_share, default=None)
+        """The column that best names each row's country, if any does (it may name one
+        country only: then it splits nothing but still hints every row's locale)."""
+        found = (self._splits.get(column.name) or split_from(column, min_groups=1)
+                 for column in self.table.columns)
+        best = max((s for s in found if s is not None), key=lambda s: s.territory_share,
+                   default=None)
         if best is None or best.territory_share < COUNTRY_SHARE:
             return None
         return best

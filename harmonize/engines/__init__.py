@@ -7,10 +7,11 @@ engine is the fallback: it wins only when no other engine claims the column.
 from __future__ import annotations
 
 from harmonize.engines.base import Converted, Decision, Engine, GroupRule, Outcome
+from harmonize.engines.dates import DateEngine
 from harmonize.engines.identifiers import IdentifierEngine
 from harmonize.engines.text import TextEngine
 
-ENGINES: list[Engine] = [IdentifierEngine()]
+ENGINES: list[Engine] = [DateEngine(), IdentifierEngine()]
 FALLBACK: Engine = TextEngine()
 
 

@@ -38,7 +38,8 @@ def explaining_split(column: ColumnEvidence, context: Context, admits: Admits,
     """
     candidates = context.splits(exclude=column.name)
     country = context.country_split
-    candidates.sort(key=lambda s: (s is not country, s.n_groups))
+    country_name = country.column if country is not None else None
+    candidates.sort(key=lambda s: (s.column != country_name, s.n_groups))
     for split in candidates:
         parts = column.by_group(split.codes, split.n_groups)
         admitted = tuple(admits(part) if part.total else all_conventions for part in parts)

@@ -1,0 +1,507 @@
+"""Dates, date-times and times, normalised to ISO 8601.
+
+Output: dates ``YYYY-MM-DD``; date-times ``YYYY-MM-DDTHH:MM:SS[.f][±HH:MM]`` (the offset
+only when the value carries one; ``Z`` becomes ``+00:00``); times ``HH:MM:SS``.
+
+The order of numeric dates such as ``03/04/2024`` is decided per column (or per group of
+rows, e.g. per country) from evidence: values only one order allows, workbook number
+formats, row order, locale hints (see ``dates_decide``). Cells the evidence cannot decide
+are listed with every reading; they are never guessed.
+
+Convention keys (plain values; edit them in a plan file):
+
+``order``           "DMY", "MDY", "YMD" or null: the order of numeric dates whose shape
+                    does not fix it (ISO dates and month names fix their own). null: a
+                    value whose readings differ is listed as unresolved.
+``candidates``      orders considered when ``order`` is null, e.g. ["DMY", "MDY"].
+``likely_order``    the most probable order when undecided; only gives the "best" reading
+                    of listed cells, never converts them.
+``year_from``       two-digit years are read in ``year_from`` .. ``year_from + 99``.
+``numbers``         how bare numbers are read: null (not dates), "compact" (20240403,
+                    240403, 1985102), "serial1900" / "serial1904" (spreadsheet serial
+                    days, ECMA-376), "unix_seconds", "unix_milliseconds".
+``kind``            "date", "datetime" or "time": serial and epoch values of a datetime
+                    column keep their time of day.
+``zone_offsets``    zone abbreviation -> "+HH:MM" that a person has settled (e.g.
+                    {"CET": "+01:00"}); other abbreviations leave the cell unresolved.
+``sentinels``       ISO dates that stand for "no date" (reported as missing).
+"""
+
+from __future__ import annotations
+
+from collections import Counter
+from collections.abc import Mapping, Sequence
+from dataclasses import dataclass
+from datetime import date
+from typing import Any, ClassVar
+
+import numpy as np
+
+from harmonize.context import Context
+from harmonize.engines.base import Converted, Decision, GroupRule, Outcome
+from harmonize.engines.dates_decide import (
+    LR_LOCALE,
+    LR_STATED,
+    LR_TERRITORY,
+    NAMES,
+    Hints,
+    Verdict,
+    admitted,
+    decide,
+    format_hints,
+)
+from harmonize.engines.dates_numbers import numbers_mode
+from harmonize.engines.dates_parse import (
+    BAD,
+    DIGITS,
+    FIXED,
+    OPEN,
+    ORDERS,
+    TIME,
+    ZERO,
+    Clock,
+    Parsed,
+    compact_parse,
+    digits_reading,
+    parse,
+    plausible_under,
+    reading,
+    render,
+)
+from harmonize.engines.dates_words import locale_order, territory_order
+from harmonize.engines.grouping import explaining_split
+from harmonize.evidence import ColumnEvidence
+
+SENTINELS = ("1900-01-01", "9999-12-31", "0000-00-00")
+MIN_SHARE = 0.5            # below this share of readable cells the column is not ours
+MIN_GROUP_ROWS = 5         # a split must average this many rows per group
+KIND_SURE = 0.995          # probability the kind is right when nearly every cell reads
+
+
+@dataclass
+class _Column:
+    """A column's distinct values read once, with the reading of bare numbers applied."""
+
+    parsed: list[Parsed]
+    counts: np.ndarray
+    numbers: str | None
+
+    @property
+    def total(self) -> int:
+        return int(self.counts.sum())
+
+    def share(self, mask: Sequence[bool]) -> float:
+        return float(self.counts[np.asarray(mask, dtype=bool)].sum()) / max(self.total, 1)
+
+
+class DateEngine:
+    name: ClassVar[str] = "dates"
+
+    # ------------------------------------------------------------ propose
+
+    def propose(self, column: ColumnEvidence, context: Context) -> Decision | None:
+        if column.total == 0 or "version" in column.name.casefold():
+            return None
+        raw = [parse(v) for v in column.values.tolist()]
+        mode = numbers_mode(column, raw)
+        col = _Column([_effective(p, mode) for p in raw], column.counts, mode.mode)
+        year_from = date.today().year - (context.options.year_window - 1)
+        orders = _candidate_orders(col, context, year_from)
+        read = [_is_read(p, orders, year_from) or (p.form == DIGITS and mode.reads(p.text))
+                for p in col.parsed]
+        fit = col.share(read)
+        if fit < MIN_SHARE:
+            return None
+        kind = _kind(col, mode)
+        convention: dict[str, Any] = {
+            "order": None, "candidates": list(orders), "likely_order": None,
+            "year_from": year_from, "numbers": mode.mode, "kind": kind,
+            "zone_offsets": dict(context.options.for_engine(self.name).get("zone_offsets", {})),
+            "sentinels": list(SENTINELS)}
+        evidence = list(mode.evidence)
+        details: dict[str, Any] = {"forms": _form_counts(col)}
+        order_p, groups = self._order(column, col, context, orders, year_from, convention,
+                                      evidence, details)
+        kind_p = mode.confidence if mode.mode else (KIND_SURE if fit >= 0.9 else 0.95)
+        if column.typed:
+            evidence.append(f"{len(column.typed)} distinct values are typed date cells")
+        _two_digit_note(col, year_from, context, details)
+        _zone_note(col, convention, details)
+        return Decision(kind=kind, engine=self.name, fit=round(fit, 6),
+                        confidence=round(min(0.999, kind_p * order_p), 4),
+                        convention=convention, groups=groups, evidence=tuple(evidence),
+                        details=details)
+
+    def _order(self, column: ColumnEvidence, col: _Column, context: Context,
+               orders: list[str], year_from: int, convention: dict[str, Any],
+               evidence: list[str], details: dict[str, Any]) -> tuple[float, GroupRule | None]:
+        """Decide the order; returns the probability that it is right, and any groups."""
+        if not any(p.form == OPEN for p in col.parsed):
+            evidence.append("no value leaves its field order open (ISO 8601, month names, "
+                            "four-digit year first, or numbers)")
+            return 1.0, None
+        forced = context.options.for_engine(self.name).get("order")
+        if forced:
+            convention["order"] = forced
+            evidence.append(f"order {forced} stated in the options for this engine")
+            return 1.0, None
+        hints = _column_hints(column, context, orders)
+        verdict = decide(col.parsed, col.counts, orders, year_from, hints, column.codes)
+        evidence.extend(verdict.evidence)
+        if verdict.mixed:
+            grouped = self._by_groups(column, col, context, orders, year_from, convention,
+                                      evidence, details)
+            if grouped is not None:
+                return grouped
+            evidence.append("values only different orders allow sit side by side and no "
+                            "column splits them: cells that decide themselves are converted, "
+                            "the rest listed")
+            return 1.0, None
+        return _apply(verdict, convention, evidence), None
+
+    def _by_groups(self, column: ColumnEvidence, col: _Column, context: Context,
+                   orders: list[str], year_from: int, convention: dict[str, Any],
+                   evidence: list[str], details: dict[str, Any]
+                   ) -> tuple[float, GroupRule] | None:
+        def admits(part: ColumnEvidence) -> frozenset[str]:
+            allowed = frozenset(orders)
+            for value in part.values.tolist():
+                p = _effective(parse(value), col.numbers)
+                if p.form == OPEN:
+                    found = admitted(p, orders, year_from)
+                    allowed = allowed & found if found else allowed
+            return allowed
+
+        found = explaining_split(column, context, admits, frozenset(orders))
+        if found is None or (found.split.n_groups > 3 and
+                             found.split.n_groups * MIN_GROUP_ROWS > column.n_rows):
+            return None  # groups of a row or two explain anything (an amount column)
+        split = found.split
+        matches = _territory_agreement(found.label_admits(), split)
+        conventions: dict[str, dict[str, Any]] = {}
+        group_details: dict[str, Any] = {}
+        probability = 1.0
+        for label, territory, part in zip(split.labels, split.territories, found.parts,
+                                          strict=True):
+            if not part.total:
+                continue
+            parsed = [_effective(parse(v), col.numbers) for v in part.values.tolist()]
+            hints = _group_hints(territory, matches, orders)
+            verdict = decide(parsed, part.counts, orders, year_from, hints, part.codes)
+            conventions[label] = {"order": verdict.order,
+                                  "likely_order": None if verdict.order else verdict.leading}
+            group_details[label] = {"order": verdict.order, "cells": part.total,
+                                    "evidence": verdict.evidence,
+                                    "probability": round(verdict.probability, 4)}
+            if verdict.order:
+                probability *= verdict.probability
+        evidence.append(f"the column {split.column!r} splits the rows into groups that each "
+                        f"follow one order")
+        details["groups"] = group_details
+        convention["order"] = None
+        return probability, GroupRule(by=split.column, conventions=conventions)
+
+    # ------------------------------------------------------------ convert
+
+    def convert(self, values: Sequence[str], convention: Mapping[str, Any]) -> Converted:
+        result = Converted.empty(len(values))
+        settings = _Settings.of(convention)
+        for i, raw in enumerate(values):
+            _convert_one(result, i, raw, settings)
+        return result
+
+
+# ---------------------------------------------------------------- propose helpers
+
+def _effective(p: Parsed, numbers: str | None) -> Parsed:
+    if p.form == DIGITS and numbers == "compact":
+        return compact_parse(p.text)
+    return p
+
+
+def _is_read(p: Parsed, orders: Sequence[str], year_from: int) -> bool:
+    """Whether the engine reads the value as a date (possibly an impossible one)."""
+    if p.form in (TIME, ZERO):
+        return True
+    if p.form == OPEN:
+        return any(plausible_under(p, o) for o in orders)
+    if p.form == FIXED:
+        return 1 <= p.parts[1] <= 12 and 1 <= p.parts[2] <= 31
+    return p.has_date and reading(p, None, year_from) is not None
+
+
+def _candidate_orders(col: _Column, context: Context, year_from: int) -> list[str]:
+    """DMY and MDY; YMD too where two-digit-year values or a hint make it a live reading."""
+    options = context.options
+    stated = {options.date_order, locale_order(options.locale) if options.locale else None,
+              context.options.for_engine("dates").get("order")}
+    compact = col.numbers == "compact" and any(
+        p.form == OPEN for p in col.parsed)
+    only_ymd = any(p.form == OPEN and admitted(p, ORDERS, year_from) == {"YMD"}
+                   for p in col.parsed)
+    return list(ORDERS) if ("YMD" in stated or compact or only_ymd) else ["DMY", "MDY"]
+
+
+def _kind(col: _Column, mode) -> str:
+    if col.numbers in ("unix_seconds", "unix_milliseconds") or mode.with_time:
+        return "datetime"
+    timed = np.array([p.clock is not None for p in col.parsed])
+    dated = np.array([p.has_date or p.form == DIGITS for p in col.parsed])
+    n_dated = col.counts[dated].sum()
+    if n_dated == 0 and timed.any():
+        return "time"
+    return "datetime" if col.counts[timed & dated].sum() * 2 >= max(n_dated, 1) else "date"
+
+
+def _form_counts(col: _Column) -> dict[str, int]:
+    found: Counter[str] = Counter()
+    for p, n in zip(col.parsed, col.counts.tolist(), strict=True):
+        found[p.form] += n
+    return dict(found.most_common())
+
+
+def _column_hints(column: ColumnEvidence, context: Context, orders: list[str]) -> Hints:
+    hints = Hints()
+    format_hints(column.formats, orders, hints)
+    options = context.options
+    if options.date_order in orders:
+        hints.add(options.date_order, LR_STATED, f"order {options.date_order} stated in the "
+                                                 f"options")
+    if options.locale and locale_order(options.locale) in orders:
+        order = locale_order(options.locale)
+        hints.add(order, LR_LOCALE, f"the stated locale {options.locale} writes {order} "
+                                    f"(CLDR short date pattern)")
+    _territory_hint(column, context, orders, hints)
+    return hints
+
+
+def _territory_hint(column: ColumnEvidence, context: Context, orders: list[str],
+                    hints: Hints) -> None:
+    found = _row_territories(column, context)
+    if found is not None:
+        name, territories = found
+        per_order: Counter[str] = Counter()
+        for territory, rows in territories.items():
+            per_order[territory_order(territory)] += rows
+        order, n = per_order.most_common(1)[0]
+        if order in orders and n >= 0.9 * sum(per_order.values()):
+            names = ", ".join(sorted(territories)[:4])
+            hints.add(order, LR_TERRITORY, f"the {name!r} column names {names}, whose CLDR "
+                                           f"short date pattern is {order}")
+        return
+    region = context.options.default_region
+    if region and territory_order(region) in orders:
+        order = territory_order(region)
+        hints.add(order, LR_TERRITORY, f"the default region {region} writes {order} (CLDR)")
+
+
+def _row_territories(column: ColumnEvidence, context: Context
+                     ) -> tuple[str, Counter[str]] | None:
+    """(column name, rows per territory) from the country column (which may name a single
+    country, as one branch's export does), counting rows where this column has a value."""
+    split = context.country_split
+    if split is None or column.codes is None or split.column == column.name:
+        return None
+    present = (column.codes >= 0) & (split.codes >= 0)
+    rows = np.bincount(split.codes[present], minlength=split.n_groups)
+    found: Counter[str] = Counter()
+    for territory, n in zip(split.territories, rows.tolist()):
+        if territory and n:
+            found[territory] += n
+    return (split.column, found) if found else None
+
+
+def _territory_agreement(label_admits: Mapping[str, frozenset[str]], split) -> tuple[int, int]:
+    """(agree, disagree): pinned groups whose order matches their territory's CLDR order."""
+    agree = disagree = 0
+    for label, territory in zip(split.labels, split.territories, strict=True):
+        allowed = label_admits.get(label, frozenset())
+        expected = territory_order(territory) if territory else None
+        if len(allowed) == 1 and expected in ("DMY", "MDY"):
+            agree += expected in allowed
+            disagree += expected not in allowed
+    return agree, disagree
+
+
+def _group_hints(territory: str | None, matches: tuple[int, int], orders: list[str]) -> Hints:
+    """A group's territory as a prior, as strong as the other groups' agreement justifies."""
+    hints = Hints()
+    order = territory_order(territory) if territory else None
+    if order in orders:
+        agree, disagree = matches
+        ratio = LR_TERRITORY if disagree else max(LR_TERRITORY, agree + 1.0)
+        hints.add(order, ratio, f"territory {territory} writes {order} (CLDR short date "
+                                f"pattern); {agree} of {agree + disagree} groups decided by "
+                                f"their values follow their territory's pattern")
+    return hints
+
+
+def _apply(verdict: Verdict, convention: dict[str, Any], evidence: list[str]) -> float:
+    convention["order"] = verdict.order
+    if verdict.order:
+        evidence.append(f"order {verdict.order} ({NAMES[verdict.order]}) with probability "
+                        f"{verdict.probability:.3f}")
+        return verdict.probability
+    if verdict.ambiguous:
+        convention["likely_order"] = verdict.leading
+        evidence.append(f"{verdict.ambiguous} cells read differently day-first and month-first "
+                        f"and the evidence does not decide (leading: {verdict.leading}, "
+                        f"probability {verdict.probability:.2f}); they are listed")
+    return 1.0
+
+
+def _two_digit_note(col: _Column, year_from: int, context: Context,
+                    details: dict[str, Any]) -> None:
+    if any(_short_year(p) for p in col.parsed):
+        window = context.options.year_window
+        details["two_digit_years"] = (
+            f"read in {year_from}-{year_from + 99}: options.year_window = {window} places "
+            f"them up to {window - 1} years before and {100 - window} after "
+            f"{year_from + window - 1}")
+
+
+def _short_year(p: Parsed) -> bool:
+    if p.form == FIXED:
+        return p.widths[0] <= 2
+    return p.form == OPEN and (p.widths[2] == 2 or max(p.widths) <= 2)
+
+
+def _zone_note(col: _Column, convention: Mapping[str, Any], details: dict[str, Any]) -> None:
+    zones = Counter(p.clock.zone for p in col.parsed if p.clock and p.clock.zone)
+    if zones:
+        details["zone_abbreviations"] = {
+            z: convention["zone_offsets"].get(z, "unresolved: an abbreviation does not fix "
+                                                 "an offset") for z in zones}
+
+
+# ---------------------------------------------------------------- convert helpers
+
+@dataclass(frozen=True)
+class _Settings:
+    order: str | None
+    candidates: tuple[str, ...]
+    likely: str | None
+    year_from: int
+    numbers: str | None
+    kind: str
+    zones: Mapping[str, str]
+    sentinels: frozenset[str]
+
+    @classmethod
+    def of(cls, convention: Mapping[str, Any]) -> _Settings:
+        order = convention.get("order")
+        return cls(order=order,
+                   candidates=tuple(convention.get("candidates") or ("DMY", "MDY")),
+                   likely=convention.get("likely_order"),
+                   year_from=int(convention.get("year_from") or date.today().year - 79),
+                   numbers=convention.get("numbers"), kind=convention.get("kind", "date"),
+                   zones=dict(convention.get("zone_offsets") or {}),
+                   sentinels=frozenset(convention.get("sentinels", SENTINELS)))
+
+
+def _convert_one(result: Converted, i: int, raw: str, s: _Settings) -> None:
+    p = parse(raw)
+    if p.form == DIGITS:
+        if s.numbers in (None, "compact"):
+            p = compact_parse(p.text) if s.numbers == "compact" else p
+            if p.form == DIGITS:
+                result.unresolved(i, "a bare number; the plan does not read numbers as dates")
+                return
+        else:
+            _convert_number(result, i, p.text, s)
+            return
+    if p.form == ZERO:
+        _missing(result, i)
+    elif p.form == BAD:
+        result.unresolved(i, f"not a date: {p.reason}")
+    elif p.form == TIME:
+        _finish(result, i, None, p.clock, s)
+    elif p.form == OPEN:
+        _convert_open(result, i, p, s)
+    else:
+        found = reading(p, None, s.year_from)
+        if found is None:
+            result.unresolved(i, _impossible(p))
+        else:
+            _finish(result, i, found, p.clock, s)
+
+
+def _convert_open(result: Converted, i: int, p: Parsed, s: _Settings) -> None:
+    if s.order:
+        found = reading(p, s.order, s.year_from)
+        if found is not None:
+            _finish(result, i, found, p.clock, s)
+            return
+        others = {o: reading(p, o, s.year_from) for o in ORDERS if o != s.order}
+        texts = [render(d, p.clock) for d in others.values() if d is not None]
+        result.unresolved(i, f"impossible as {s.order} ({NAMES[s.order]})"
+                          + (f"; it reads as {' or '.join(texts)} in another order"
+                             if texts else ""), candidates=texts)
+        return
+    readings = {o: reading(p, o, s.year_from) for o in s.candidates}
+    distinct = sorted({d for d in readings.values() if d is not None})
+    if len(distinct) == 1:
+        _finish(result, i, distinct[0], p.clock, s)
+    elif not distinct:
+        result.unresolved(i, "impossible date in every order ("
+                          + ", ".join(s.candidates) + ")")
+    else:
+        texts = [render(d, p.clock) for d in distinct]
+        best = readings.get(s.likely) if s.likely else None
+        if all(t in s.sentinels for t in (d.isoformat() for d in distinct)):
+            _missing(result, i)
+            return
+        result.unresolved(
+            i, "day and month cannot be told apart: its readings differ and no value, row "
+               "order or hint in the data decides the column's order; a country column or a "
+               "stated order (options date_order, or 'order' in the plan) would decide it",
+            candidates=texts, best=render(best, p.clock) if best else None)
+
+
+def _finish(result: Converted, i: int, day: date | None, clock: Clock | None,
+            s: _Settings) -> None:
+    if day is not None and day.isoformat() in s.sentinels:
+        _missing(result, i)
+        return
+    if clock is not None and clock.zone:
+        offset = s.zones.get(clock.zone)
+        if offset is None:
+            naive = render(day, clock) if day else clock.text()
+            result.unresolved(i, f"time zone abbreviation {clock.zone} does not fix a UTC "
+                                 f"offset; add it to zone_offsets in the plan to convert",
+                              candidates=[naive], best=naive)
+            return
+        clock = Clock(clock.hour, clock.minute, clock.second, clock.fraction, offset)
+    if day is None:
+        if s.kind != "time":
+            result.unresolved(i, "a time without a date")
+            return
+        result.set(i, clock.text())
+        return
+    if s.kind == "time":
+        result.unresolved(i, "a date in a column of times")
+        return
+    result.set(i, render(day, clock))
+
+
+def _convert_number(result: Converted, i: int, text: str, s: _Settings) -> None:
+    found = digits_reading(text, s.numbers or "", s.kind == "datetime")
+    if isinstance(found, tuple):
+        result.unresolved(i, found[0])
+    elif found is None:
+        result.unresolved(i, f"unknown reading of numbers {s.numbers!r}")
+    elif found[:10] in s.sentinels:
+        _missing(result, i)
+    else:
+        result.set(i, found)
+
+
+def _missing(result: Converted, i: int) -> None:
+    result.set(i, "", Outcome.MISSING)
+    result.reasons[i] = "sentinel date"
+
+
+def _impossible(p: Parsed) -> str:
+    if p.weekday is not None:
+        return "impossible date: the weekday named does not match the date"
+    return "impossible date: no such day in the calendar"

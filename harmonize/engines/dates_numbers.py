@@ -1,0 +1,108 @@
+"""When bare numbers in a column are dates: compact digit strings (20240403), spreadsheet
+serial day numbers (ECMA-376 1900 system) and Unix epoch seconds or milliseconds.
+
+A plain number column (amounts, quantities, identifiers) must stay numbers, so a reading
+is accepted only when the column makes it clear: its header names a date or time, or
+other cells of the column are dates, and every number falls in a plausible range.
+Eight-digit strings that are all valid ISO 8601 basic dates (D1) are the one exception.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Sequence
+from dataclasses import dataclass, field
+
+import numpy as np
+
+from harmonize.engines.dates_parse import BAD, DIGITS, ORDERS, Parsed, compact_parse, reading
+from harmonize.engines.dates_words import header_says_date
+from harmonize.evidence import ColumnEvidence
+
+# Plausible ranges: 1950-01-01 .. 2100-12-31 (common practice, no source).
+SERIAL_RANGE = (18264, 73415)             # 1900 system (checkvalues D20: 25569 = 1970-01-01)
+EPOCH_SECONDS = (631152000, 4133894400)   # 1990-01-01 .. 2100-12-31 (POSIX, D23)
+EPOCH_MILLIS = (EPOCH_SECONDS[0] * 1000, EPOCH_SECONDS[1] * 1000)
+COMPACT_YEARS = (1900, 2099)
+OTHER_DATES = 0.2      # share of cells that are written dates, making numbers dates too
+MIN_COMPACT = 5        # distinct eight-digit dates needed without a header
+
+
+@dataclass
+class NumbersMode:
+    mode: str | None = None
+    confidence: float = 1.0
+    with_time: bool = False
+    evidence: list[str] = field(default_factory=list)
+
+    def reads(self, text: str) -> bool:
+        return self.mode is not None and _in_range(text, self.mode)
+
+
+def numbers_mode(column: ColumnEvidence, parsed: Sequence[Parsed]) -> NumbersMode:
+    """The reading of the column's bare numbers, or NumbersMode() when they stay numbers."""
+    counts = column.counts
+    is_digits = np.array([p.form == DIGITS for p in parsed], dtype=bool)
+    if not is_digits.any():
+        return NumbersMode()
+    texts = [p.text for p, d in zip(parsed, is_digits, strict=True) if d]
+    header = header_says_date(column.name)
+    dated = np.array([p.has_date for p in parsed], dtype=bool)
+    other = float(counts[dated].sum()) / max(int(counts.sum()), 1) >= OTHER_DATES
+    why = (f"the header {column.name!r} names a date" if header else
+           "other cells of the column are written dates")
+    compact = _compact(texts, header or other, why)
+    if compact is not None:
+        return compact
+    if not (header or other):
+        return NumbersMode()
+    for mode, label in (("serial1900", "spreadsheet serial day numbers (1900 system)"),
+                        ("unix_seconds", "Unix epoch seconds"),
+                        ("unix_milliseconds", "Unix epoch milliseconds")):
+        if all(_in_range(t, mode) for t in texts):
+            timed = mode != "serial1900" or any("." in t for t in texts)
+            lo, hi = min(texts, key=float), max(texts, key=float)
+            return NumbersMode(mode, 0.97 if header and other else 0.93, timed,
+                               [f"{why}; its numbers {lo}-{hi} read as {label}"])
+    return NumbersMode()
+
+
+def _compact(texts: list[str], hinted: bool, why: str) -> NumbersMode | None:
+    lengths = {len(t) for t in texts}
+    if any(not t.isdigit() for t in texts) or not lengths <= {6, 7, 8} or len(lengths) != 1:
+        return None
+    parsed = [compact_parse(t) for t in texts]
+    valid = [p.form != BAD and any(reading(p, o, 1950) for o in ORDERS) for p in parsed]
+    if not all(valid):
+        return None
+    if lengths == {8}:
+        years = [p.parts[0] for p in parsed]
+        if not all(COMPACT_YEARS[0] <= y <= COMPACT_YEARS[1] for y in years):
+            return None
+        if hinted:
+            return NumbersMode("compact", 0.97, False,
+                               [f"{why}; its digit strings are ISO 8601 basic dates"])
+        if len(texts) >= MIN_COMPACT:
+            return NumbersMode("compact", 0.9, False,
+                               [f"all {len(texts)} eight-digit values are valid ISO 8601 "
+                                f"basic dates (YYYYMMDD)"])
+        return None
+    if hinted:
+        form = "basic ordinal dates (YYYYDDD)" if lengths == {7} else "compact dates (six digits)"
+        return NumbersMode("compact", 0.9, False, [f"{why}; its digit strings read as {form}"])
+    return None
+
+
+def _in_range(text: str, mode: str) -> bool:
+    whole, _, fraction = text.partition(".")
+    if not whole.isdigit():
+        return False
+    value = int(whole)
+    if mode == "serial1900" or mode == "serial1904":
+        return SERIAL_RANGE[0] <= value <= SERIAL_RANGE[1]
+    if fraction:
+        return False
+    if mode == "unix_seconds":
+        return EPOCH_SECONDS[0] <= value <= EPOCH_SECONDS[1]
+    if mode == "unix_milliseconds":
+        return EPOCH_MILLIS[0] <= value <= EPOCH_MILLIS[1]
+    return mode == "compact"
