@@ -95,6 +95,14 @@ def _execute(inputs: tuple[Path, ...], out: Path | None, options: Options, *,
         _fail(str(exc))
     for error in result.errors:
         click.echo(f"harmonize: {error['message']}", err=True)
+    if not quiet:
+        for entry in result.report["files"]:
+            where = entry["input"] + (f": sheet '{entry['sheet']}'" if entry["sheet"] else "")
+            notes = list(entry.get("warnings", []))
+            if entry["rows"] == 0:
+                notes.append("no data rows (header only)")
+            for note in notes:
+                click.echo(f"harmonize: note: {where}: {note}", err=True)
     if result.errors and not result.report["files"]:
         sys.exit(EXIT_FAILED)
     return result

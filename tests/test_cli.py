@@ -7,6 +7,7 @@ import json
 import shutil
 from pathlib import Path
 
+import pandas as pd
 import pytest
 from click.testing import CliRunner
 
@@ -166,3 +167,35 @@ def test_every_command_has_help() -> None:
 def test_samples_cover_every_reader() -> None:
     suffixes = {p.suffix for p in find_inputs([SAMPLES])}
     assert {".csv", ".tsv", ".xlsx"} <= suffixes
+
+
+def test_readme_python_example(tmp_path: Path, monkeypatch: pytest.MonkeyPatch) -> None:
+    readme = (SAMPLES.parent / "README.md").read_text("utf-8")
+    code = readme.split("```python\n", 1)[1].split("```", 1)[0]
+    monkeypatch.chdir(tmp_path)
+    shutil.copytree(SAMPLES, tmp_path / "samples")
+    shutil.copytree(SAMPLES, tmp_path / "next_month")
+    exec(compile(code, "README.md", "exec"), {})  # noqa: S102 - our own README
+    assert (tmp_path / "out" / "harmonize-report.json").is_file()
+    assert (tmp_path / "out2" / "harmonize-report.json").is_file()
+
+
+def test_processes_give_the_same_report(tmp_path: Path) -> None:
+    one, two = tmp_path / "one", tmp_path / "two"
+    assert invoke("apply", str(SAMPLES), "--out", str(one), "-q")[0] == 0
+    assert invoke("apply", str(SAMPLES), "--out", str(two), "-q", "--jobs", "2")[0] == 0
+    first = json.loads((one / "harmonize-report.json").read_text("utf-8"))
+    second = json.loads((two / "harmonize-report.json").read_text("utf-8"))
+    assert first["files"] == second["files"] and first["unresolved"] == second["unresolved"]
+
+
+def test_undecided_cells_can_keep_their_text(tmp_path: Path) -> None:
+    data = tmp_path / "d.csv"
+    data.write_text("Shipped\n03/04/2024\n05/06/2024\n07/08/2024\n", encoding="utf-8")
+    for mode, expected in (("empty", ""), ("raw", "03/04/2024")):
+        out = tmp_path / mode
+        assert invoke("apply", str(data), "--out", str(out), "-q", "--undecided-as", mode)[0] == 0
+        rows = pd.read_csv(out / "d.csv", dtype=str, keep_default_na=False)["Shipped"].tolist()
+        assert rows[0] == expected
+        report = json.loads((out / "harmonize-report.json").read_text("utf-8"))
+        assert {u["row"] for u in report["unresolved"]} == {2, 3, 4}

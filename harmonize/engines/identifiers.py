@@ -20,11 +20,12 @@ from harmonize.context import Context
 from harmonize.engines.base import Converted, Decision, Outcome
 from harmonize.evidence import ColumnEvidence
 
-_CODE = r"^(?=[^\s]*\d)[A-Za-z0-9][A-Za-z0-9\-_/.#]*$"
+_CODE = r"^(?=.*\d)[A-Za-z0-9](?:[A-Za-z0-9\-_/.#]| (?! ))*$"  # one space between parts
 _HEADER = re.compile(
     r"(?:^|[\s_\-./(])(?:id|ids|code|codes|no|nr|num|number|nummer|numéro|numero|zip|"
     r"postal|postcode|postleitzahl|plz|cp|cap|sku|ean|gtin|upc|isbn|iban|account|konto|"
-    r"ref|reference|referenz|key|serial|batch|lot|ticket|invoice|rechnung|facture)"
+    r"ref|reference|referenz|key|serial|batch|lot|ticket|invoice|rechnung|facture|barcode|"
+    r"vat|tin|ssn|siret|siren|swift|bic|sort code|routing|bestellnummer|kundennummer)"
     r"(?:$|[\s_\-./)#:])", re.IGNORECASE)
 LONG_DIGITS = 16   # more digits than a float keeps exactly (IEEE 754 double: 15-17)
 
@@ -52,6 +53,8 @@ def _shape(column: ColumnEvidence) -> dict[str, float]:
         "fixed": weights[digits & (lengths == modal)].sum() / max(weights[digits].sum(), 1.0),
         "width": float(modal),
         "decimal": float(text.str.fullmatch(r"\d+[.,]\d+").to_numpy(dtype=bool).any()),
+        "lettered": weights[code & text.str.contains(r"[A-Za-z]").to_numpy(dtype=bool)].sum()
+        / total,
     }
 
 
@@ -72,7 +75,7 @@ class IdentifierEngine:
         if named and shape["fixed"] >= 0.95 and shape["digits"] >= 0.5:
             evidence.append(f"the header names a code and digit values have a fixed width "
                             f"of {int(shape['width'])}")
-        if named and shape["code"] >= 0.9 and shape["digits"] < 0.5:
+        if named and shape["lettered"] >= 0.9:
             evidence.append("the header names a code and values are letter-digit codes")
         if not evidence:
             return None
