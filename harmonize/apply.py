@@ -134,7 +134,7 @@ def _note_unresolved(result: ColumnResult, converted: Converted, wanted: np.ndar
         result.unresolved.append({
             "offset": row, "value": str(column.values[codes[row]]),
             "reason": converted.reasons.get(i, "could not be read"),
-            "candidates": converted.candidates.get(i, [])})
+            "candidates": converted.candidates.get(i, []), "best": converted.best.get(i)})
 
 
 def _note_examples(result: ColumnResult, converted: Converted, wanted: np.ndarray,

@@ -16,6 +16,7 @@ A plan file looks like this (every field is described in DEVELOPERS.md):
     missing = ["n/a", "-"]
     convention = { order = "DMY" }
 
+``# why:`` comments after a column header carry the evidence into later reports.
 A person may change ``kind``/``engine``, any ``convention`` key, the ``missing`` tokens
 or a group's convention; ``apply --plan`` then follows the file exactly.
 """
@@ -111,7 +112,7 @@ def dumps(plan: Plan) -> str:
         "# harmonize plan: one entry per file/sheet and column.",
         "# Edit kind, engine, convention, missing or a group's convention, then run",
         "#   harmonize apply INPUT --plan THIS_FILE --out DIR",
-        "# Lines starting with '# why:' record the evidence; they are not read back.",
+        "# Lines starting with '# why:' record the evidence behind a decision (shown in reports).",
         f"format = {tomlwrite.string(FORMAT)}",
         f"version = {VERSION}",
     ]
@@ -140,6 +141,18 @@ def _column_lines(text: str) -> list[int]:
     """1-based line number of each [[tables.columns]] header, in file order."""
     return [i for i, line in enumerate(text.splitlines(), 1)
             if re.match(r"^\s*\[\[\s*tables\.columns\s*\]\]", line)]
+
+
+def _why_lines(text: str, header_line: int) -> list[str]:
+    """The '# why:' comments right after a column header (1-based line number)."""
+    found = []
+    for line in text.splitlines()[header_line:]:
+        stripped = line.strip()
+        if not stripped.startswith("#"):
+            break
+        if stripped.startswith("# why:"):
+            found.append(stripped[len("# why:"):].strip())
+    return found
 
 
 def _field_line(text: str, start: int, name: str) -> int:
@@ -198,7 +211,8 @@ def _read_column(data: Mapping[str, Any], where: str, text: str, line: int) -> C
                       confidence=float(confidence), convention=dict(convention),
                       missing=[m.strip().casefold() for m in missing],
                       groups=_read_groups(data.get("groups"), at("groups")),
-                      unit=data.get("unit"), output_name=data.get("output_name"))
+                      unit=data.get("unit"), output_name=data.get("output_name"),
+                      evidence=_why_lines(text, line))
 
 
 def loads(text: str, source: str = "<plan>") -> Plan:

@@ -93,7 +93,7 @@ def table_entry(result: TableResult, *, input_name: str, sheet: str | None,
     unresolved = [
         {"file": input_name, "sheet": sheet, "row": header_row + 1 + cell["offset"],
          "column": column.plan.name, "value": cell["value"], "reason": cell["reason"],
-         "candidates": list(cell["candidates"])}
+         "candidates": list(cell["candidates"]), "best": cell.get("best")}
         for column in result.columns for cell in column.unresolved]
     return entry, unresolved
 

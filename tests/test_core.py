@@ -158,3 +158,11 @@ def test_every_cell_has_exactly_one_outcome(rows: list[tuple[str, str, str]]) ->
         assert sum(col.counts().values()) == len(frame)
         unresolved_rows = {cell["offset"] for cell in col.unresolved}
         assert unresolved_rows == set(np.nonzero(col.outcome == Outcome.UNRESOLVED)[0])
+
+
+def test_why_lines_are_read_back() -> None:
+    frame = pd.DataFrame({"Customer ID": ["007", "012"]})
+    table = decide_table(TableEvidence.from_frame(frame, "t.csv"))
+    again = loads(dumps(Plan([table])))
+    assert again.tables[0].columns[0].evidence == table.columns[0].evidence
+    assert again.tables[0].columns[0].evidence  # the identifier engine says why

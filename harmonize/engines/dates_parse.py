@@ -88,11 +88,26 @@ _HOUR_PERIOD = re.compile(r"(?<![\d:./-])(\d{1,2}) ?([ap]\.? ?m\.?)(?![^\W\d_])"
 _OFFSET_TAIL = re.compile(r"(?:\b(?:utc|gmt|ut) ?)?([+-])(\d{1,2})(?::?(\d{2}))?$", re.IGNORECASE)
 _WORD_TAIL = re.compile(r"([^\W\d_]+)$")
 _TRAILING_T = re.compile(r"(?<=\d)[Tt]\s*$")
-_TOKENS = re.compile(r"\d+|[^\W\d_]+")
+_TOKENS = re.compile(r"\d+|[^\W\d_]+(?:-[^\W\d_]+)*")   # 'quarta-feira' is one word
+# Year, month and day marked by 年月日 (ja, zh) or 년월일 (ko): CLDR long patterns
+_CJK_DATE = re.compile(r"(\d{2,4})\s*[年년]\s*(\d{1,2})\s*[月월]\s*(\d{1,2})\s*[日일]")
+# '15 h 45', '15 h 45 min 00 s' (fr_CA CLDR time patterns)
+_SPACED_H = re.compile(r"(?<![\d:])(\d{1,2}) h (\d{2})(?: min (\d{2}) s)?(?![\d:])")
+# a time written with dots after a complete date: '3.4.2024 15.45' (fi, da), 'klo 15.45'
+_DOTTED_CLOCK = re.compile(r"(.*?\S)[ ,]+(?:klo |kl\.? )?(\d{1,2})\.(\d{2})(?:\.(\d{2}))?")
 
 
 def normalise(raw: str) -> str:
-    return _SPACES.sub(" ", raw).strip()
+    text = _SPACES.sub(" ", raw).strip()
+    if "h" in text:
+        text = _SPACED_H.sub(_colon_clock, text)
+    if not text.isascii():
+        text = _CJK_DATE.sub(r"\1-\2-\3 ", text).strip()
+    return text
+
+
+def _colon_clock(m: re.Match[str]) -> str:
+    return f"{m[1]}:{m[2]}" + (f":{m[3]}" if m[3] else "")
 
 
 @lru_cache(maxsize=1 << 17)
@@ -113,9 +128,23 @@ def parse(raw: str) -> Parsed:
     if not date_text.strip(" ,;@-"):
         return Parsed(TIME, clock=clock) if clock else bad("no date or time")
     found = _read_date_text(date_text)
+    if found.form == BAD and clock is None:
+        found, clock = _with_dotted_clock(text, found)
     if found.form == BAD or clock is None:
         return found
     return Parsed(found.form, found.parts, found.widths, clock, found.weekday)
+
+
+def _with_dotted_clock(text: str, failed: Parsed) -> tuple[Parsed, Clock | None]:
+    """A date followed by a time written with dots, else the first failure unchanged."""
+    m = _DOTTED_CLOCK.fullmatch(text)
+    if not m:
+        return failed, None
+    found = _read_date_text(m[1])
+    clock = _clock_from(m[2], m[3], m[4], None, None) if found.form != BAD else None
+    if not isinstance(clock, Clock) or found.form in (BAD, ):
+        return failed, None
+    return found, clock
 
 
 def _clock_from(h: str, mi: str, s: str | None, frac: str | None,
@@ -368,7 +397,8 @@ def reading(p: Parsed, order: str | None, year_from: int) -> date | None:
             return None
     elif p.form == ORDINAL:
         year, day = p.parts
-        found = date(year, 1, 1) + timedelta(days=day - 1) if 1 <= day <= 366 else None
+        valid = 1 <= day <= 366 and 1 <= year <= 9999  # datetime's range; year 0 is not
+        found = date(year, 1, 1) + timedelta(days=day - 1) if valid else None
         if found is not None and found.year != year:
             return None
     else:
