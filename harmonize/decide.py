@@ -4,6 +4,8 @@ from __future__ import annotations
 
 import logging
 
+import numpy as np
+
 from harmonize.context import Context
 from harmonize.engines import ENGINES, FALLBACK
 from harmonize.engines.base import Decision
@@ -15,9 +17,33 @@ from harmonize.plan import ColumnPlan, TablePlan
 log = logging.getLogger(__name__)
 
 
+SCREEN_SIZE = 400     # distinct values an engine sees first on a large column
+SCREEN_SLACK = 0.15   # an engine reading this much less than min_fit of the sample is dropped
+
+
+def screening_sample(column: ColumnEvidence) -> ColumnEvidence | None:
+    """The most frequent distinct values plus an even spread of the rest, or None when
+    the column is small enough to read whole."""
+    n = len(column.values)
+    if n <= 2 * SCREEN_SIZE:
+        return None
+    keep = np.zeros(n, dtype=bool)
+    keep[np.argsort(-column.counts, kind="stable")[: SCREEN_SIZE // 2]] = True
+    keep[np.linspace(0, n - 1, SCREEN_SIZE // 2).astype(int)] = True
+    return column.subset(keep)
+
+
 def _proposals(present: ColumnEvidence, context: Context) -> list[Decision]:
+    """Every engine's proposal. On a large column an engine first reads a sample, and
+    only an engine that reads most of the sample goes on to read every value."""
+    sample = screening_sample(present)
+    floor = context.options.min_fit - SCREEN_SLACK
     found = []
     for engine in ENGINES:
+        if sample is not None:
+            first = engine.propose(sample, context)
+            if first is None or first.fit < floor:
+                continue
         decision = engine.propose(present, context)
         if decision is not None:
             found.append(decision)

@@ -407,10 +407,10 @@ def _missing(column: Mapping[str, Any]) -> str:
     if not tokens:
         return ""
     reasons = (column.get("details") or {}).get("missing_reasons") or {}
-    folded = {str(k).strip().casefold(): v for k, v in reasons.items()}
+    folded = {str(k).strip().lower(): v for k, v in reasons.items()}
     rows = "".join(
         f"<tr><td>{raw(token)}</td><td class='num'>{_num(int(count))}</td>"
-        f"<td>{esc(folded.get(str(token).strip().casefold(), ''))}</td></tr>"
+        f"<td>{esc(folded.get(str(token).strip().lower(), ''))}</td></tr>"
         for token, count in list(tokens.items())[:MAX_LISTED])
     return ("<h4>Set aside as missing</h4><table><thead><tr><th>written</th><th>cells</th>"
             f"<th>why</th></tr></thead><tbody>{rows}</tbody></table>"

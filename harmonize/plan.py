@@ -209,7 +209,7 @@ def _read_column(data: Mapping[str, Any], where: str, text: str, line: int) -> C
         _check(data.get(name) is None or isinstance(data[name], str), at(name), "must be text")
     return ColumnPlan(name=data["name"], kind=data["kind"], engine=data["engine"],
                       confidence=float(confidence), convention=dict(convention),
-                      missing=[m.strip().casefold() for m in missing],
+                      missing=[m.strip().lower() for m in missing],
                       groups=_read_groups(data.get("groups"), at("groups")),
                       unit=data.get("unit"), output_name=data.get("output_name"),
                       evidence=_why_lines(text, line))

@@ -36,7 +36,7 @@ def header_names_code(header: str) -> bool:
 
 def _shape(column: ColumnEvidence) -> dict[str, float]:
     """Weighted shares of the column's cells by shape."""
-    text = pd.Series(column.values, dtype=object).str.strip()
+    text = pd.Series(column.values, dtype="str").str.strip()  # Arrow-backed: fast
     weights = column.counts.astype(float)
     total = max(weights.sum(), 1.0)
     digits = text.str.fullmatch(r"\d+").to_numpy(dtype=bool)

@@ -33,7 +33,12 @@ SENTINEL_GAP = 5.0        # a sentinel lies this many times beyond the other val
 
 
 def fold_token(raw: str) -> str:
-    return raw.strip().casefold()
+    return raw.strip().lower()
+
+
+def fold_values(values: np.ndarray) -> pd.Series:
+    """Trimmed, lower-cased text of distinct values (Arrow-backed strings: fast)."""
+    return pd.Series(values, dtype="str").str.strip().str.lower()
 
 
 @dataclass(frozen=True)
@@ -45,13 +50,13 @@ class MissingRule:
 
     def mask(self, values: np.ndarray) -> np.ndarray:
         """True for each distinct raw value that is missing under this rule."""
-        folded = pd.Series(values, dtype=object).str.strip().str.casefold()
+        folded = fold_values(values)
         return (folded.eq("") | folded.isin(self.tokens)).to_numpy(dtype=bool)
 
 
 def _words(options: Options) -> frozenset[str]:
-    return frozenset(w.casefold() for w in all_entries("missing_words")) | frozenset(
-        w.strip().casefold() for w in options.missing_words)
+    return frozenset(fold_token(w) for w in all_entries("missing_words")) | frozenset(
+        fold_token(w) for w in options.missing_words)
 
 
 def _sentinels(folded: pd.Series, counts: np.ndarray) -> set[str]:
@@ -75,16 +80,17 @@ def _sentinels(folded: pd.Series, counts: np.ndarray) -> set[str]:
 def find_missing(column: ColumnEvidence, options: Options | None = None) -> MissingRule:
     """Decide which of a column's distinct values mean "no value"."""
     options = options or Options()
-    folded = pd.Series(column.values, dtype=object).str.strip().str.casefold()
+    folded = fold_values(column.values)
     words = _words(options)
     reasons: dict[str, str] = {}
     for token in folded[folded.isin(words)].unique():
         reasons[token] = "missing-value word"
-    for token in folded[folded.str.match(_EMAIL_PLACEHOLDER)].unique():
+    emails = folded[folded.str.contains("@", regex=False)]
+    for token in emails[emails.str.match(_EMAIL_PLACEHOLDER)].unique():
         reasons[token] = "placeholder e-mail at a reserved example domain"
-    for token in folded[folded.str.match(_ZERO_PHONE) & folded.str.contains("0")].unique():
-        if sum(ch == "0" for ch in token) >= 6:
-            reasons[token] = "all-zero phone number"
+    zeros = folded[folded.str.count("0") >= 6]
+    for token in zeros[zeros.str.match(_ZERO_PHONE)].unique():
+        reasons[token] = "all-zero phone number"
     rest = ~(folded.isin(reasons) | folded.eq("")).to_numpy()
     for token in _sentinels(folded[rest], column.counts[rest]):
         reasons[token] = "sentinel number far outside the column's other values"
