@@ -11,6 +11,9 @@ from __future__ import annotations
 from dataclasses import dataclass
 from functools import cached_property
 
+import re
+from pathlib import PurePath
+
 import numpy as np
 import pandas as pd
 
@@ -44,6 +47,27 @@ class Split:
             return 0.0
         has = np.asarray([t is not None for t in self.territories] + [False])
         return float(has[self.codes[labelled]].mean())
+
+
+# Two-letter words that name an ISO 3166 code but, in a file name, are mostly English
+# or shorthand (common practice, no source).
+_NOT_A_COUNTRY = frozenset({"am", "an", "as", "at", "be", "by", "do", "go", "id", "if", "in",
+                            "is", "it", "me", "my", "no", "of", "on", "or", "pm", "so", "to",
+                            "tv", "up", "vs"})
+
+
+def territory_in_name(file: str) -> str | None:
+    """A territory named by the first or last word of a file name ("sales_uk.csv",
+    "DE-orders.xlsx", "ventes France.csv"), else None."""
+    words = [w for w in re.split(r"[\s_\-.,()\[\]]+", PurePath(file).stem) if w]
+    for word in {words[0], words[-1]} if words else set():
+        if len(word) == 2 and not word.isupper() and word in _NOT_A_COUNTRY:
+            continue
+        if word.isalpha() and (len(word) > 3 or word.isupper() or len(word) == 2):
+            found = territory_of(word)
+            if found:
+                return found
+    return None
 
 
 def _label_territory(label: str) -> str | None:
@@ -106,9 +130,14 @@ class Context:
         if column in self._splits:
             return self._splits[column]
         try:
-            return split_from(self.table.column(column))
+            return split_from(self.table.column(column), min_groups=1)
         except KeyError:
             return None
+
+    @cached_property
+    def file_territory(self) -> str | None:
+        """The territory the file's own name points to, a weak locale hint."""
+        return territory_in_name(self.table.file)
 
     @cached_property
     def country_split(self) -> Split | None:

@@ -22,7 +22,8 @@ NAME_LANGUAGES = ("en", "de", "fr", "es", "it", "nl", "pt", "sv", "da", "nb", "f
 
 def fold(text: str) -> str:
     """Case, accents, punctuation and spacing folded away: 'Côte d’Ivoire' -> 'cotedivoire'."""
-    decomposed = unicodedata.normalize("NFKD", text.casefold())
+    # Turkish dotless ı does not fold to i under casefold; "IŞIK" and "Işık" must meet.
+    decomposed = unicodedata.normalize("NFKD", text.casefold().replace("ı", "i"))
     return "".join(ch for ch in decomposed if ch.isalnum())
 
 
@@ -54,9 +55,11 @@ def territory_of(value: str) -> str | None:
     text = value.strip()
     if not text:
         return None
-    if len(text) <= 3 and text.isalpha():
-        return _code_table().get(text.upper())
-    return _name_table().get(fold(text))
+    if len(text) <= 3 and text.isascii() and text.isalpha():
+        found = _code_table().get(text.upper())
+        if found:
+            return found
+    return _name_table().get(fold(text))  # also short names: "Irã", "日本"
 
 
 def territory_share(values: list[str], counts: list[int]) -> float:

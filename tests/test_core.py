@@ -166,3 +166,13 @@ def test_why_lines_are_read_back() -> None:
     again = loads(dumps(Plan([table])))
     assert again.tables[0].columns[0].evidence == table.columns[0].evidence
     assert again.tables[0].columns[0].evidence  # the identifier engine says why
+
+
+@pytest.mark.parametrize(("file", "territory"), [
+    # ISO 3166-1 alpha-2 codes and CLDR English names (via babel)
+    ("branch_sales_uk.csv", "GB"), ("filiale_bestellungen_de.csv", "DE"),
+    ("DE-orders.xlsx", "DE"), ("ventes France.csv", "FR"), ("sales_IT.csv", "IT"),
+    ("sales_it.csv", None), ("orders_in_march.csv", None), ("merged_ledger.csv", None)])
+def test_territory_in_file_name(file: str, territory: str | None) -> None:
+    from harmonize.context import territory_in_name
+    assert territory_in_name(file) == territory

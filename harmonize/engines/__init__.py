@@ -7,11 +7,13 @@ engine is the fallback: it wins only when no other engine claims the column.
 from __future__ import annotations
 
 from harmonize.engines.base import Converted, Decision, Engine, GroupRule, Outcome
+from harmonize.engines.booleans import BooleanEngine
 from harmonize.engines.dates import DateEngine
 from harmonize.engines.identifiers import IdentifierEngine
+from harmonize.engines.phones import PhoneEngine
 from harmonize.engines.text import TextEngine
 
-ENGINES: list[Engine] = [DateEngine(), IdentifierEngine()]
+ENGINES: list[Engine] = [BooleanEngine(), DateEngine(), PhoneEngine(), IdentifierEngine()]
 FALLBACK: Engine = TextEngine()
 
 

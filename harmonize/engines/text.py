@@ -22,8 +22,19 @@ Convention keys (a person may edit them in a plan file):
 ``countries``      folded key -> alpha-2 code for the values seen (used with country_codes;
                    unseen values are looked up again, unknown ones are unresolved).
 
-The folded key of a value: case folded, compatibility-decomposed, accents, spaces and
-punctuation dropped ("Saint-Étienne" -> "saintetienne").
+``canonical`` lists every key while the column has at most 5000 of them, else only the keys
+written in more than one way (a single-spelling key gives the same output either way).
+A value the canonical spelling (or cleaning) changes is CONVERTED; one that stays as
+written, apart from trimming, is PASSED.
+
+Report details: ``variant_groups`` (up to 100 groups, each {"canonical", "cells_changed",
+"variants": {raw: count}}, with ``variant_groups_total`` and a note when capped),
+``suggested_merges`` (near matches, never applied), ``country_column`` and ``territories``
+when the values name countries.
+
+The folded key of a value: case folded, compatibility-decomposed, accents dropped, spaces
+and punctuation between letters or digits dropped, a trailing full stop dropped
+("Saint-Étienne" -> "saintetienne", "U.K." -> "uk"); symbols stay ("C++", "A-").
 """
 
 from __future__ import annotations
@@ -46,7 +57,11 @@ from harmonize.territory import territory_of
 # Zero-width and other invisible format characters that only hide differences.
 INVISIBLE = re.compile("[\u200b\u200c\u200d\u2060\ufeff\u00ad\u180e]")
 SPACES = re.compile(r"\s+")             # str patterns: every Unicode white space (U+00A0 ...)
-NOT_ALNUM = re.compile(r"[\W_]+")       # also drops the combining marks NFKD splits off
+COMBINING = re.compile("[\u0300-\u036f\u1ab0-\u1aff\u1dc0-\u1dff\u20d0-\u20ff\ufe20-\ufe2f]")
+# Spaces and punctuation (not symbols such as + # & %) between two letters or digits
+_SEPARATOR = "[\\s\\-\u2010-\u2015.,;:·'\u2018\u2019`´\"\u201c\u201d/\\\\_()\\[\\]{}!?¡¿…]"
+INNER_SEPARATORS = re.compile(rf"(?<=[^\W_]){_SEPARATOR}+(?=[^\W_])")
+TRAILING_STOPS = re.compile(r"[.\s]+$")
 
 FREE_MEDIAN_LENGTH = 40     # a column of values this long ...
 FREE_UNIQUE_SHARE = 0.7     # ... and mostly unique is free text
@@ -71,18 +86,23 @@ def normalise_many(values: Iterable[str]) -> list[str]:
 
 
 def fold_many(values: Iterable[str]) -> list[str]:
-    """Folded keys: case, accents, spaces and punctuation away; 'Côte-d’Or' -> 'cotedor'.
+    """Folded keys: case, accents, and the spaces and punctuation *between* letters or
+    digits away, and a trailing full stop: 'Côte-d’Or' -> 'cotedor', 'U.K.' -> 'uk'.
 
-    A value with no letters or digits at all keys as itself, so it never joins a group.
+    Symbols and outer punctuation stay, so that 'C++', 'C#' and 'C', or the grades 'A-',
+    'A' and 'A+', remain different values. A value that folds to nothing keys as itself.
     """
     series = pd.Series(list(values), dtype=object)
     if series.empty:
         return []
-    keys = (series.str.casefold().str.normalize("NFKD")
-            .str.replace(NOT_ALNUM, "", regex=True)).tolist()
-    # letters NFKD leaves precomposed-free may still carry marks; drop any left over
-    keys = [k if k.isascii() else _strip_marks(k) for k in keys]
-    return [k if k else v for k, v in zip(keys, series.tolist(), strict=True)]
+    # dotless ı upper-cases to I, which folds to i: fold ı to i too (Turkish names)
+    folded = (series.str.casefold().str.replace("ı", "i", regex=False).str.normalize("NFKD")
+              .str.replace(COMBINING, "", regex=True)
+              .str.replace(INNER_SEPARATORS, "", regex=True)
+              .str.replace(TRAILING_STOPS, "", regex=True)).tolist()
+    # marks outside the common combining blocks, if any, go one value at a time
+    keys = [k if k.isascii() else _strip_marks(k) for k in folded]
+    return [k or v for k, v in zip(keys, series.tolist(), strict=True)]  # "...": itself
 
 
 def _strip_marks(text: str) -> str:

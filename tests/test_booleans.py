@@ -1,0 +1,141 @@
+"""Booleans engine: which columns are boolean, and how each word reads."""
+
+from __future__ import annotations
+
+import pandas as pd
+import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
+
+from harmonize.context import Context
+from harmonize.engines.base import Outcome
+from harmonize.engines.booleans import BooleanEngine, fold_word, header_is_flag, vocabulary
+from harmonize.evidence import TableEvidence
+
+ENGINE = BooleanEngine()
+
+
+def propose(values: list[str], header: str = "col", typed: dict[str, str] | None = None):
+    frame = pd.DataFrame({header: values})
+    table = TableEvidence.from_frame(frame, typed={header: typed} if typed else None)
+    return table.columns[0], ENGINE.propose(table.columns[0], Context(table))
+
+
+def convert_all(values: list[str], header: str = "col") -> dict[str, str]:
+    column, decision = propose(values, header)
+    assert decision is not None
+    result = ENGINE.convert(column.values.tolist(), decision.convention)
+    return dict(zip(column.values.tolist(), result.text, strict=True))
+
+
+# Everyday yes/no words per language: common practice, no source (from memory).
+@pytest.mark.parametrize(("yes", "no"), [
+    ("yes", "no"), ("Y", "N"), ("TRUE", "FALSE"), ("t", "f"), ("On", "Off"),
+    ("ja", "nein"), ("oui", "non"), ("sí", "no"), ("Si", "No"), ("sim", "não"), ("ja", "nee"),
+    ("tak", "nie"), ("vero", "falso"), ("ja", "nej"), ("kyllä", "ei"), ("ano", "ne"),
+    ("✓", "✗"), ("✔", "✘"), ("☑", "☐"), ("✓", "x"), ("J", "N"), ("O", "N"), ("S", "N"),
+])
+def test_language_pairs_read_as_true_and_false(yes: str, no: str) -> None:
+    out = convert_all([yes, no, yes, f" {yes.upper()} ", no.lower() + "."])
+    assert out[yes] == "true" and out[no] == "false"
+    assert out[f" {yes.upper()} "] == "true" and out[no.lower() + "."] == "false"
+
+
+@pytest.mark.parametrize("values", [
+    ["x", "x", "x"],                 # a mark alone: ticked or crossed?
+    ["M", "F", "M", "F"],            # a two-valued category
+    ["A", "B", "A"],
+    ["Y", "Y", "Y"],                 # one letter, nothing shows the other value
+    ["1", "1", "1"],
+    ["0", "1", "2", "1"],            # a count, not a flag
+    ["F", "M", "M", "M", "F", "F"],  # F would read as false, M as nothing
+    ["red", "green", "blue"],
+    ["N", "S", "E", "W", "NE", "SW"],  # compass points
+])
+def test_not_boolean(values: list[str]) -> None:
+    _, decision = propose(values)
+    assert decision is None or decision.fit < 0.8
+
+
+def test_zero_one_needs_every_value_in_zero_one_and_a_flag_header_for_confidence() -> None:
+    _, plain = propose(["1", "0", "0", "1"], header="score")
+    _, flag = propose(["1", "0", "0", "1"], header="is_active")
+    assert plain is not None and flag is not None
+    assert plain.fit == flag.fit == 1.0
+    assert plain.confidence < 0.8 < flag.confidence
+    assert convert_all(["1", "0"], header="hasPhone") == {"1": "true", "0": "false"}
+
+
+@pytest.mark.parametrize(("header", "flag"), [
+    ("is_active", True), ("isActive", True), ("Has account", True), ("Active", True),
+    ("Newsletter", True), ("Paid?", True), ("Score", False), ("Quantity", False),
+    ("Island", False), ("hash", False),
+])
+def test_flag_headers(header: str, flag: bool) -> None:
+    assert header_is_flag(header) is flag
+
+
+def test_typed_workbook_booleans_are_most_confident() -> None:
+    typed = {"TRUE": "boolean", "FALSE": "boolean"}
+    _, decision = propose(["TRUE", "FALSE", "TRUE"], typed=typed)
+    _, untyped = propose(["TRUE", "FALSE", "TRUE"])
+    assert decision is not None and untyped is not None
+    assert decision.confidence > untyped.confidence
+    assert any("typed workbook" in line for line in decision.evidence)
+
+
+def test_other_values_in_a_boolean_column_are_unresolved() -> None:
+    values = ["yes"] * 10 + ["no"] * 10 + ["maybe", "2"]
+    column, decision = propose(values)
+    assert decision is not None and decision.fit == pytest.approx(20 / 22)
+    result = ENGINE.convert(column.values.tolist(), decision.convention)
+    by_value = dict(zip(column.values.tolist(), result.outcome.tolist(), strict=True))
+    assert by_value["maybe"] == by_value["2"] == Outcome.UNRESOLVED
+    assert by_value["yes"] == Outcome.CONVERTED
+    assert all(i in result.reasons for i, o in enumerate(result.outcome) if o == Outcome.UNRESOLVED)
+
+
+def test_unread_values_lower_the_confidence() -> None:
+    _, clean = propose(["yes", "no"] * 10)
+    _, noisy = propose(["yes", "no"] * 9 + ["perhaps", "later"])
+    assert clean is not None and noisy is not None
+    assert noisy.confidence < clean.confidence
+
+
+def test_convention_is_all_convert_needs() -> None:
+    """A saved convention re-applies to new values, with no other state."""
+    convention = {"true": ["ja", "j"], "false": ["nein", "n"]}
+    result = ENGINE.convert(["JA", "Nein.", " j ", "yes"], convention)
+    assert result.text[:3] == ["true", "false", "true"]
+    assert result.outcome[3] == Outcome.UNRESOLVED
+
+
+def test_conflicting_convention_is_refused() -> None:
+    with pytest.raises(ValueError, match="both true and false"):
+        ENGINE.convert(["ja"], {"true": ["ja"], "false": ["JA"]})
+
+
+def test_word_list_has_no_word_of_both_polarities() -> None:
+    vocab = vocabulary()  # raises on a conflict when it loads
+    assert vocab.words["oui"][0] is True and vocab.words["nein"][0] is False
+    assert {"de", "fr", "es", "pt", "nl", "pl", "it", "fi", "cs", "sv"} <= set(vocab.by_language)
+
+
+def test_fold_word() -> None:
+    assert fold_word("  Sí. ") == "si"
+    assert fold_word("NÃO") == "nao"
+    assert fold_word("Kyllä") == "kylla"
+
+
+WORDS = sorted((word, truth) for word, (truth, _) in vocabulary().words.items())
+
+
+@settings(max_examples=200, deadline=None)
+@given(entry=st.sampled_from(WORDS), case=st.sampled_from([str.upper, str.lower, str.title]),
+       pad=st.sampled_from(["", " ", "  ", "\u00a0", "\t"]), dot=st.booleans())
+def test_listed_words_read_whatever_their_case_and_padding(entry, case, pad, dot) -> None:
+    word, truth = entry
+    opposite = next(w for w, t in WORDS if t is not truth and len(w) > 1)
+    cell = pad + case(word) + ("." if dot else "") + pad
+    out = convert_all([cell, opposite, cell])
+    assert out[cell] == ("true" if truth else "false")

@@ -1,0 +1,216 @@
+"""Text engine: cleaning per Unicode UAX #15, variant groups, merges, free text, countries."""
+
+from __future__ import annotations
+
+import json
+import unicodedata
+
+import pandas as pd
+import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
+
+from harmonize.context import Context
+from harmonize.engines.base import Outcome
+from harmonize.engines.text import (
+    TextEngine,
+    case_style,
+    fold,
+    fold_many,
+    normalise,
+    suggest_merges,
+)
+from harmonize.evidence import TableEvidence
+from harmonize.options import Options
+
+ENGINE = TextEngine()
+
+
+def decide(values: list[str], header: str = "Town", **options):
+    table = TableEvidence.from_frame(pd.DataFrame({header: values}))
+    column = table.columns[0]
+    return column, ENGINE.propose(column, Context(table, Options(**options)))
+
+
+def outputs(values: list[str], **options) -> dict[str, tuple[str, int]]:
+    column, decision = decide(values, **options)
+    result = ENGINE.convert(column.values.tolist(), decision.convention)
+    return {v: (t, int(o)) for v, t, o in zip(column.values.tolist(), result.text,
+                                                result.outcome, strict=True)}
+
+
+def test_composed_and_decomposed_forms_are_one_group_written_nfc() -> None:
+    composed = "Caf\u00e9 Ren\u00e9"               # UAX #15: é as one code point (NFC)
+    decomposed = "Cafe\u0301 Rene\u0301"          # é as e + U+0301 (NFD)
+    assert unicodedata.normalize("NFC", decomposed) == composed
+    out = outputs([composed, decomposed, decomposed])
+    assert out[composed][0] == out[decomposed][0] == composed
+    assert unicodedata.is_normalized("NFC", out[decomposed][0])
+
+
+@pytest.mark.parametrize(("raw", "clean"), [
+    ("  Harrowdene  ", "Harrowdene"),
+    ("North\u00a0Quay", "North Quay"),          # U+00A0 NO-BREAK SPACE
+    ("North\u202fQuay", "North Quay"),          # U+202F NARROW NO-BREAK SPACE
+    ("North\u2009\u2009Quay", "North Quay"),    # U+2009 THIN SPACE, collapsed
+    ("North\tQuay", "North Quay"),
+    ("Nor\u200bth Quay", "North Quay"),         # U+200B ZERO WIDTH SPACE
+    ("\ufeffNorth Quay", "North Quay"),         # U+FEFF byte order mark
+    ("Nort\u00adh Quay", "North Quay"),         # U+00AD SOFT HYPHEN
+    ("North   Quay", "North Quay"),
+])
+def test_cleaning(raw: str, clean: str) -> None:
+    assert normalise(raw) == clean
+    assert outputs([raw])[raw] == (clean, Outcome.CONVERTED if raw.strip() != clean
+                                   else Outcome.PASSED)
+
+
+def test_canonical_is_most_frequent_then_diacritics_then_case_style() -> None:
+    out = outputs(["Valmorèz"] * 2 + ["VALMOREZ"] * 5 + ["Brévaux-les-Ormes", "Brevaux les Ormes",
+                                                          "Quenbury", "Ostwehl"])
+    assert out["Valmorèz"][0] == "VALMOREZ"               # most frequent wins
+    assert out["Brevaux les Ormes"][0] == "Brévaux-les-Ormes"  # tie: diacritics win
+    out = outputs(["Quenbury Hill", "QUENBURY HILL", "Ostwehl", "Harrowdene", "Lindmere"])
+    assert out["QUENBURY HILL"][0] == "Quenbury Hill"      # tie: prevailing title case
+
+
+def test_unchanged_values_pass_and_rewritten_ones_are_converted() -> None:
+    out = outputs(["Lindmere", "Lindmere", "LINDMERE", " Lindmere "])
+    assert out["Lindmere"] == ("Lindmere", Outcome.PASSED)
+    assert out[" Lindmere "] == ("Lindmere", Outcome.PASSED)    # trimming alone
+    assert out["LINDMERE"] == ("Lindmere", Outcome.CONVERTED)
+
+
+def test_variant_groups_reported_with_counts() -> None:
+    _, decision = decide(["Oststrand"] * 3 + ["OSTSTRAND", "oststrand", "Quenbury"])
+    groups = decision.details["variant_groups"]
+    assert groups == [{"canonical": "Oststrand", "cells_changed": 2,
+                       "variants": {"Oststrand": 3, "OSTSTRAND": 1, "oststrand": 1}}]
+    json.dumps(dict(decision.details))  # reports are JSON
+    json.dumps(dict(decision.convention))
+
+
+def test_variant_group_list_is_capped_and_says_so() -> None:
+    values = [f"Place {chr(65 + i // 26)}{chr(65 + i % 26)}" for i in range(150)]
+    _, decision = decide(values + [v.upper() for v in values] + values)
+    assert len(decision.details["variant_groups"]) == 100
+    assert decision.details["variant_groups_total"] == 150
+    assert "150" in decision.details["variant_groups_note"]
+
+
+def test_saved_convention_reapplies_and_passes_new_keys() -> None:
+    _, decision = decide(["Harrowdene", "Harrowdene", "HARROWDENE"])
+    convention = json.loads(json.dumps(dict(decision.convention)))  # as a plan file keeps it
+    result = ENGINE.convert(["harrowdene", "  New\u00a0Town  ", "NEW TOWN"], convention)
+    assert result.text == ["Harrowdene", "New Town", "NEW TOWN"]
+    assert result.outcome.tolist() == [Outcome.CONVERTED, Outcome.CONVERTED, Outcome.PASSED]
+
+
+def test_near_matches_are_suggested_not_applied() -> None:
+    values = ["Harrowdene"] * 12 + ["Harowdene"] + ["Quenbury"] * 8 + ["Quenbry"] + ["Ostwehl"] * 4
+    column, decision = decide(values)
+    suggestions = {s["canonical"]: s["variants"] for s in decision.details["suggested_merges"]}
+    assert suggestions == {"Harrowdene": ["Harowdene"], "Quenbury": ["Quenbry"]}
+    result = ENGINE.convert(["Harowdene"], decision.convention)
+    assert result.text == ["Harowdene"]                     # not applied by default
+    approved = {**decision.convention, "merge": {"Harrowdene": ["Harowdene"]}}
+    assert ENGINE.convert(["Harowdene", "HAROWDENE"], approved).text == ["Harrowdene"] * 2
+
+
+def test_no_suggestions_for_different_numbers_or_two_common_spellings() -> None:
+    canonical = {"unit12": "Unit 12", "unit13": "Unit 13", "marlowe": "Marlowe",
+                 "harlowe": "Harlowe"}
+    counts = {"unit12": 10, "unit13": 1, "marlowe": 10, "harlowe": 9}
+    assert suggest_merges(canonical, counts) == []
+
+
+def test_free_text_is_only_trimmed() -> None:
+    notes = [f"  Customer {i} asked for delivery after  the {i % 28 + 1}th, gate code "
+             f"{1000 + i}, ring twice  " for i in range(40)]
+    column, decision = decide(notes, header="Notes")
+    assert decision.convention == {"mode": "free"}
+    result = ENGINE.convert(column.values.tolist(), decision.convention)
+    assert result.text == [n.strip() for n in column.values.tolist()]
+    assert set(result.outcome.tolist()) == {Outcome.PASSED}
+
+
+def test_country_column_recognised_and_codes_optional() -> None:
+    values = ["Deutschland", "Germany", "DE", "France", "FRA", "Frankreich", "UK", "España"]
+    _, plain = decide(values, header="Land")
+    assert plain.details["country_column"] is True
+    assert "country_codes" not in plain.convention
+    column, coded = decide(values + ["Atlantis"], header="Land",
+                           engine={"text": {"country_codes": True}})
+    result = ENGINE.convert(column.values.tolist(), coded.convention)
+    got = dict(zip(column.values.tolist(), result.text, strict=True))
+    # ISO 3166-1 alpha-2: DE Germany, FR France, GB United Kingdom, ES Spain (from memory)
+    assert [got[v] for v in values] == ["DE", "DE", "DE", "FR", "FR", "FR", "GB", "ES"]
+    assert result.outcome[column.values.tolist().index("Atlantis")] == Outcome.UNRESOLVED
+
+
+def test_empty_column_still_proposes() -> None:
+    table = TableEvidence.from_frame(pd.DataFrame({"x": pd.Series([], dtype=object)}))
+    decision = ENGINE.propose(table.columns[0], Context(table))
+    assert decision is not None and decision.fit == 1.0
+
+
+@pytest.mark.parametrize(("text", "style"), [
+    ("Quenbury Hill", "title"), ("QUENBURY", "upper"), ("quenbury", "lower"),
+    ("Brévaux-les-Ormes", "title"), ("quenBury Hill", "mixed"), ("123", "none"),
+])
+def test_case_style(text: str, style: str) -> None:
+    assert case_style(text) == style
+
+
+# --- property: case, space and accent variants fold into one group ------------------------
+
+BASE_WORDS = st.lists(st.text(alphabet="abcdeéèfghiïjklmnoöpqrstuüvwxyzç", min_size=2,
+                              max_size=9), min_size=1, max_size=3).map(" ".join)
+SPACES = ["", " ", "  ", "\u00a0", "\u202f", "\t", "\u200b"]
+
+
+@st.composite
+def variant(draw, base: str) -> str:
+    out = []
+    for ch in base:
+        if ch == " ":
+            out.append(draw(st.sampled_from([" ", "-", " - ", "\u00a0", ". "])))
+            continue
+        ch = ch.upper() if draw(st.booleans()) else ch
+        form = draw(st.sampled_from(["NFC", "NFD", "strip"]))
+        if form == "strip":  # accent dropped
+            ch = "".join(c for c in unicodedata.normalize("NFD", ch)
+                         if not unicodedata.combining(c))
+        else:
+            ch = unicodedata.normalize(form, ch)
+        out.append(ch)
+    return draw(st.sampled_from(SPACES)) + "".join(out) + draw(st.sampled_from(SPACES))
+
+
+@settings(max_examples=150, deadline=None)
+@given(data=st.data(), base=BASE_WORDS)
+def test_variants_fold_into_one_group(data, base: str) -> None:
+    variants = [data.draw(variant(base)) for _ in range(5)]
+    assert len(set(fold_many([normalise(v) for v in variants]))) == 1
+    column, decision = decide(variants + ["Other Place"])
+    result = ENGINE.convert(column.values.tolist(), decision.convention)
+    texts = {t for v, t in zip(column.values.tolist(), result.text, strict=True)
+             if v != "Other Place"}
+    assert len(texts) == 1
+    assert unicodedata.is_normalized("NFC", texts.pop())
+
+
+@pytest.mark.parametrize("values", [["C", "C++", "C#"], ["A", "A-", "A+", "B+"],
+                                    ["10%", "10"], ["R&D", "RD"]])
+def test_symbols_keep_values_apart(values: list[str]) -> None:
+    # common practice, no source: symbols carry meaning that punctuation between words lacks
+    assert len(set(fold_many(values))) == len(values)
+    assert outputs(values) == {v: (v, Outcome.PASSED) for v in values}
+
+
+def test_fold() -> None:
+    assert fold("Saint-Étienne") == fold("SAINT ETIENNE") == "saintetienne"
+    assert fold("U.K.") == fold("UK") and fold("St. Albans") == fold("St Albans")
+    assert fold("Straße") == fold("STRASSE")  # casefold: ß -> ss (Unicode full case folding)
+    assert fold("?!") == "?!"                 # no letters: keyed as itself
+    assert fold("Işıkdere") == fold("IŞIKDERE") == fold("isikdere")  # dotless ı upper-cases to I
