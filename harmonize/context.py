@@ -8,10 +8,9 @@ hint: its ISO 3166 territory.
 
 from __future__ import annotations
 
+import re
 from dataclasses import dataclass
 from functools import cached_property
-
-import re
 from pathlib import PurePath
 
 import numpy as np
