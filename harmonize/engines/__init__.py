@@ -10,10 +10,15 @@ from harmonize.engines.base import Converted, Decision, Engine, GroupRule, Outco
 from harmonize.engines.booleans import BooleanEngine
 from harmonize.engines.dates import DateEngine
 from harmonize.engines.identifiers import IdentifierEngine
+from harmonize.engines.numbers import NumberEngine
 from harmonize.engines.phones import PhoneEngine
 from harmonize.engines.text import TextEngine
+from harmonize.engines.units import UnitEngine
 
-ENGINES: list[Engine] = [BooleanEngine(), DateEngine(), PhoneEngine(), IdentifierEngine()]
+# Units before numbers: bare numbers under a header naming a unit ("Weight (lb)") are
+# quantities, and both engines read them equally well.
+ENGINES: list[Engine] = [BooleanEngine(), DateEngine(), PhoneEngine(), IdentifierEngine(),
+                         UnitEngine(), NumberEngine()]
 FALLBACK: Engine = TextEngine()
 
 

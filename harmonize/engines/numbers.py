@@ -1,0 +1,387 @@
+"""Numbers: amounts, prices, percentages, in any regional notation.
+
+The decimal mark is decided from evidence, never from a guess: a value that only one
+notation reads ("1.234,56", "0,5", "1,234,567", "12,34,567.8") decides it for its column,
+or for its group of rows when a merged export mixes notations and a column (a country
+first) explains the split. A value whose readings differ ("1.234", "2,500") and that
+nothing decides is listed with both readings. A country column is only a hint: it names
+the likely reading of listed values and stops one group's notation from deciding rows
+of a country whose CLDR notation differs.
+
+Written forms read: signs ``-`` ``+`` U+2212, accounting ``(1,234.50)``, trailing minus
+``1.234,56-``, scientific ``1.5E3``, magnitude words (``locales/magnitudes.txt``),
+whole amounts ``5,-``, percentages and currencies (ISO 4217 codes and CLDR signs,
+before or after the number).
+
+Output: plain decimals with ``.``, no grouping, exact (``decimal.Decimal``), trailing
+fractional zeros dropped unless asked to keep them ("12.50" -> "12.5", "1200.0" -> "1200").
+
+Convention keys (plain values; edit them in a plan file):
+
+``decimal_mark``        ``"."``, ``","`` or ``"undecided"`` (null is read the same way):
+                        each value is read on its own form, and values that read
+                        differently under the two marks are listed.
+                        The group marks accepted follow from it: for ``"."``: ``,`` (3-digit
+                        or lakh grouping), spaces (any width) and apostrophes; for ``","``:
+                        ``.``, spaces and apostrophes.
+``settled_marks``       marks an ambiguous value ("1.234", "2,500") may hold and still be
+                        read under ``decimal_mark``; the others are listed. The other mark
+                        (read as a group mark) is settled by the decision; the decimal mark
+                        itself only once a deciding value shows it as one ("3.5"), since
+                        "80.600" read as 80.6 would claim exactly three decimals. Absent:
+                        both.
+``likely_decimal_mark`` ``"."``, ``","`` or null: the reading offered as ``best`` for a
+                        listed value (from a locale hint); it never converts a value.
+``trailing_zeros``      ``"drop"`` (default) or ``"keep"`` the fractional zeros as written.
+``percent``             true: values are percentages, kept as written (``12.5%`` -> 12.5),
+                        and the column's unit is "percent".
+``currency_mode``       ``"none"``, ``"single"`` (amounts in ``currency``; the unit) or
+                        ``"mixed"`` (each value's ISO code goes to the companion column
+                        "<column> currency").
+``currency``            ISO 4217 code of a single-currency column (bare amounts take it).
+``symbols``             sign -> ISO code for signs several currencies share, e.g.
+                        ``{"$": "CAD"}``; per group when a country column decides it.
+
+Per-group conventions (``Decision.groups``) carry the same keys for the rows of one label.
+
+Engine options (``Options.engine["numbers"]``): ``trust_locale_hint`` (default false) lets a
+locale hint (country column, ``Options.locale``/``default_region``) decide a column or
+group that no value decides; ``trailing_zeros`` ("drop"/"keep") sets that key.
+
+Evidence the decision weighs: values that only one notation reads, the role each mark is
+seen in, workbook number cells (``ColumnEvidence.typed``, plain already) and formats, the
+CLDR notation of each row's country (babel), the header (currency codes and signs), a
+column of currency codes, and the run options. Typed workbook numbers are not counted as
+evidence about the text cells beside them.
+"""
+
+from __future__ import annotations
+
+import re
+from collections.abc import Mapping, Sequence
+from dataclasses import dataclass
+from functools import cache
+from typing import Any, ClassVar
+
+import numpy as np
+from babel import Locale
+
+from harmonize.context import Context, Split
+from harmonize.engines.base import Converted, Decision, GroupRule
+from harmonize.engines.numbers_convert import (
+    convert_amounts,
+    parse_amount,
+    parse_amounts,
+)
+from harmonize.engines.numbers_currency import (
+    candidates,
+    codes_in_text,
+    iso_codes,
+    ranked_candidates,
+    resolve_alone,
+    territory_currencies,
+)
+from harmonize.engines.numbers_forms import (
+    AMBIGUOUS,
+    COMMA_ONLY,
+    DOT_ONLY,
+    NOT_NUMBER,
+    SAME,
+    Forms,
+    analyse,
+    format_decimal_plain,
+)
+from harmonize.engines.numbers_marks import (
+    MarkDecision,
+    decide_column_marks,
+    decide_marks,
+    single_territory,
+)
+from harmonize.evidence import ColumnEvidence
+from harmonize.locales import load_entries
+
+__all__ = ["NumberEngine", "decide_marks", "format_decimal_plain", "parse_amount",
+           "parse_amounts"]
+
+MIN_SHARE = 0.5           # below this share of number cells the column is not ours
+IDENTIFIER_SHARE = 0.01   # share of code-like cells (leading zeros, 16+ digits) that disowns
+FIXED_WIDTH_MIN = 5       # bare digit strings all this long or longer look like codes
+
+
+# ------------------------------------------------------------------------ currency
+
+
+@dataclass
+class CurrencyDecision:
+    mode: str
+    code: str | None
+    symbols: dict[str, str]
+    per_label: dict[str, dict[str, str]]
+    confidence: float
+    evidence: list[str]
+    split_column: str | None = None
+
+
+def _resolve_from(codes: frozenset[str], known: frozenset[str]) -> str | None:
+    hit = codes & known
+    return next(iter(hit)) if len(hit) == 1 else None
+
+
+def _decide_currency(column: ColumnEvidence, forms: Forms, context: Context,
+                     number: np.ndarray) -> CurrencyDecision:
+    tokens = forms.currency
+    present = number & (tokens != "")
+    if not present.any():
+        return _currency_from_formats(column)
+    written = sorted(set(tokens[present].tolist()))
+    alone = {t: resolve_alone(t) for t in written}
+    shared = [t for t in written if alone[t] is None]
+    explicit = frozenset(c for c in alone.values() if c)
+    symbols: dict[str, str] = {}
+    per_label: dict[str, dict[str, str]] = {}
+    evidence: list[str] = []
+    confidence = 0.99
+    header = codes_in_text(column.name)
+    options_codes = _options_currencies(context)
+    territory = single_territory(context, column.name) if context.country_split is None else None
+    country_codes = territory_currencies(territory) if territory else frozenset()
+    split_column = None
+    for token in shared:
+        options = candidates(token)
+        split, by_label = _resolve_by_rows(column, forms, context, token, options)
+        if by_label and split_column in (None, split.column):
+            split_column = split.column
+            per_label.update({lab: {**per_label.get(lab, {}), token: code}
+                              for lab, code in by_label.items()})
+            evidence.append(f"{token!r} is read per {split.column!r}: " + ", ".join(
+                f"{lab} {code}" for lab, code in list(by_label.items())[:6]))
+            confidence = min(confidence, 0.95)
+            continue
+        for source, known in (("the column's other values", explicit), ("the header", header),
+                              ("the country column", country_codes),
+                              ("the run options", options_codes)):
+            code = _resolve_from(options, known)
+            if code:
+                symbols[token] = code
+                evidence.append(f"{token!r} is read as {code} from {source}")
+                confidence = min(confidence, 0.85 if source == "the run options" else 0.93)
+                break
+        else:
+            evidence.append(f"{token!r} may stand for {', '.join(ranked_candidates(token)[:6])}; "
+                            "nothing in the data decides: its cells are listed")
+    used = set(explicit) | set(symbols.values())
+    used |= {code for m in per_label.values() for code in m.values()}
+    if not used:
+        return CurrencyDecision("single", None, symbols, per_label, 0.8, evidence, split_column)
+    if len(used) == 1:
+        code = next(iter(used))
+        evidence.append(f"amounts are in {code}")
+        return CurrencyDecision("single", code, symbols, per_label, confidence, evidence,
+                                split_column)
+    evidence.append(f"amounts in {len(used)} currencies ({', '.join(sorted(used))}): "
+                    "each row's currency goes to a companion column")
+    return CurrencyDecision("mixed", None, symbols, per_label, confidence, evidence,
+                            split_column)
+
+
+def _currency_from_formats(column: ColumnEvidence) -> CurrencyDecision:
+    """Workbook number formats such as '[$€-407]#,##0.00' name the currency of bare cells."""
+    named = frozenset().union(*(codes_in_text(fmt) for fmt in column.formats))
+    if len(named) != 1:
+        return CurrencyDecision("none", None, {}, {}, 1.0, [])
+    code = next(iter(named))
+    return CurrencyDecision("single", code, {}, {}, 0.97,
+                            [f"the workbook's number formats name {code}"])
+
+
+def _options_currencies(context: Context) -> frozenset[str]:
+    options = context.options
+    region = options.default_region or context.file_territory
+    if not region and options.locale:
+        try:
+            region = Locale.parse(options.locale).territory
+        except Exception:
+            region = None
+    return territory_currencies(region.upper()) if region else frozenset()
+
+
+def _row_splits(context: Context, column: str) -> list[tuple[Split, list[frozenset[str]]]]:
+    """Columns naming each row's currency: a country column, or a column of ISO codes."""
+    found = []
+    country = context.country_split
+    if country is not None:
+        found.append((country, [territory_currencies(t) if t else frozenset()
+                                for t in country.territories]))
+    for split in context.splits(exclude=column):
+        if all(label.strip().upper() in iso_codes() for label in split.labels):
+            found.append((split, [frozenset({label.strip().upper()}) for label in split.labels]))
+    return found
+
+
+def _resolve_by_rows(column: ColumnEvidence, forms: Forms, context: Context, token: str,
+                     options: frozenset[str]) -> tuple[Split | None, dict[str, str]]:
+    """Label -> code for every group whose rows use ``token``, from the first column that
+    settles all of them ({} when none does)."""
+    if column.codes is None:
+        return None, {}
+    token_of = dict(zip(column.values.tolist(), forms.currency.tolist(), strict=True))
+    for split, label_codes in _row_splits(context, column.name):
+        found: dict[str, str] = {}
+        parts = column.by_group(split.codes, split.n_groups)
+        for label, known, part in zip(split.labels, label_codes, parts, strict=True):
+            if any(token_of[v] == token for v in part.values.tolist()):
+                code = _resolve_from(options, known)
+                if code is None:
+                    break
+                found[label] = code
+        else:
+            if found:
+                return split, found
+    return None, {}
+
+
+# ----------------------------------------------------------------------- the engine
+
+
+@cache
+def _identifier_words() -> frozenset[str]:
+    return frozenset(w.casefold() for w in load_entries("number_headers").get("identifier", ()))
+
+
+def _identifier_like(column: ColumnEvidence, forms: Forms) -> bool:
+    """Codes that happen to be digits (leading zeros, fixed width, 16+ digits)."""
+    counts, total = column.counts, max(column.total, 1)
+    bare = forms.bare_digits
+    texts = forms.text
+    lengths = np.fromiter((len(t) for t in texts), dtype=np.int64, count=len(texts))
+    leading_zero = bare & (lengths > 1) & np.array([t.startswith("0") for t in texts], bool)
+    long_digits = np.array([len(t) >= 16 and t.isdigit() for t in texts], bool)
+    if counts[leading_zero | long_digits].sum() >= IDENTIFIER_SHARE * total:
+        return True
+    number_cells = counts[forms.is_number].sum()
+    if counts[bare].sum() < 0.95 * number_cells:
+        return False
+    words = set(re.findall(r"\w+", column.name.casefold()))
+    if words & _identifier_words() or "#" in column.name:
+        return True
+    widths = set(lengths[bare].tolist())
+    if len(widths) == 1 and widths.pop() >= FIXED_WIDTH_MIN and bare.sum() >= 20:
+        round_share = np.mean([t.endswith("0") for t in texts[bare]])
+        return bool(round_share < 0.5)
+    return False
+
+
+def _unit_lookalike(forms: Forms, number: np.ndarray) -> bool:
+    """Every amount carries the same one-letter suffix ("300 K"): more likely a unit."""
+    mags = set(forms.magnitude[number].tolist())
+    no_currency = not (forms.currency[number] != "").any()
+    return len(mags) == 1 and len(next(iter(mags))) == 1 and no_currency
+
+
+class NumberEngine:
+    """Amounts in any notation -> plain decimals (see the module docstring)."""
+
+    name: ClassVar[str] = "numbers"
+
+    def propose(self, column: ColumnEvidence, context: Context) -> Decision | None:
+        total = column.total
+        if total == 0:
+            return None
+        forms = analyse(column.values)
+        number = forms.is_number
+        fit = float(column.counts[number].sum()) / total
+        if fit < MIN_SHARE or _identifier_like(column, forms):
+            return None
+        if _unit_lookalike(forms, number):
+            fit *= 0.5
+        typed = np.array([column.typed.get(v) == "number" for v in column.values.tolist()],
+                         dtype=bool)
+        skip = typed if (~typed & number).any() else np.zeros(len(forms), bool)
+        marks = decide_column_marks(column, forms, context, skip)
+        currency = _decide_currency(column, forms, context, number)
+        percent = _decide_percent(column, forms, number)
+        return self._decision(column, context, forms, fit, marks, currency, percent, typed)
+
+    def _decision(self, column: ColumnEvidence, context: Context, forms: Forms, fit: float,
+                  marks: MarkDecision, currency: CurrencyDecision, percent: bool,
+                  typed: np.ndarray) -> Decision:
+        options = context.options.for_engine("numbers")
+        groups = _group_rule(marks, currency)
+        convention: dict[str, Any] = {
+            **marks.convention(), "trailing_zeros": options.get("trailing_zeros", "drop"),
+            "percent": percent, "currency_mode": currency.mode,
+            "currency": currency.code, "symbols": currency.symbols}
+        evidence = list(marks.evidence) + currency.evidence
+        if typed.any():
+            evidence.append(f"{int(typed.sum())} value(s) are workbook number cells")
+        if column.formats:
+            evidence.append("workbook formats: " + ", ".join(
+                f"{fmt!r}" for fmt, _ in column.formats.most_common(3)))
+        if percent:
+            evidence.append("values are percentages: numbers kept as written, unit 'percent'")
+        unit = "percent" if percent else currency.code
+        details: dict[str, Any] = {"group_marks": _group_marks_seen(forms, marks.mark)}
+        if percent:
+            details["percent_note"] = "numbers keep their written value (12.5% -> 12.5)"
+        if currency.code:
+            details["currency_note"] = f"amounts in {currency.code}; no exchange-rate conversion"
+        confidence = _kind_confidence(forms, fit) * marks.confidence * currency.confidence
+        return Decision(kind="number", engine=self.name, fit=min(fit, 1.0),
+                        confidence=round(min(max(confidence, 0.01), 0.999), 4),
+                        convention=convention, groups=groups, evidence=tuple(evidence),
+                        details=details, unit=unit)
+
+    def convert(self, values: Sequence[str], convention: Mapping[str, Any]) -> Converted:
+        return convert_amounts(values, convention)
+
+
+def _decide_percent(column: ColumnEvidence, forms: Forms, number: np.ndarray) -> bool:
+    pct_cells = column.counts[number & forms.percent].sum()
+    number_cells = column.counts[number].sum()
+    header = column.name.casefold()
+    return bool(pct_cells >= 0.5 * number_cells or (
+        pct_cells and ("%" in header or "percent" in header or "pct" in header)))
+
+
+def _kind_confidence(forms: Forms, fit: float) -> float:
+    number = forms.is_number
+    rich = number & ~forms.bare_digits
+    base = 0.995 if rich.sum() >= max(1, 0.1 * number.sum()) else 0.95
+    return base * (1.0 - 0.5 * (1.0 - fit))
+
+
+def _group_marks_seen(forms: Forms, mark: str | None) -> list[str]:
+    """Group marks the values use (space stands for every space look-alike)."""
+    status = forms.status
+    if mark is None:
+        readings = ((".", (status == SAME) | (status == DOT_ONLY)), (",", status == COMMA_ONLY))
+    else:
+        readings = ((mark, (status != NOT_NUMBER) & (status != AMBIGUOUS)),)
+    seen: set[str] = set()
+    for decimal, mask in readings:
+        seen |= set("".join(forms.body[mask].tolist())) - set("0123456789") - {decimal}
+    return sorted(seen)
+
+
+def _group_rule(marks: MarkDecision, currency: CurrencyDecision) -> GroupRule | None:
+    per_label: dict[str, dict[str, Any]] = {k: dict(v) for k, v in marks.per_label.items()}
+    by = marks.split.column if marks.split is not None else None
+    if currency.per_label and by in (None, currency.split_column):
+        by = currency.split_column
+        for label, extra in currency.per_label.items():
+            per_label.setdefault(label, {})["symbols"] = {**currency.symbols, **extra}
+    elif currency.per_label:
+        # the rows are split by another column: a sign read alike in every group it
+        # appears in is read so everywhere; one read differently stays listed
+        currency.symbols.update(_agreed_symbols(currency.per_label))
+    if by is None or not per_label:
+        return None
+    return GroupRule(by=by, conventions=per_label)
+
+
+def _agreed_symbols(per_label: Mapping[str, Mapping[str, str]]) -> dict[str, str]:
+    readings: dict[str, set[str]] = {}
+    for symbols in per_label.values():
+        for sign, code in symbols.items():
+            readings.setdefault(sign, set()).add(code)
+    return {sign: codes.pop() for sign, codes in readings.items() if len(codes) == 1}

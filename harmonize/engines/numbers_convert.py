@@ -1,0 +1,204 @@
+"""Converting distinct values under a numbers convention (see ``numbers`` for the keys).
+
+Everything that can be is done on whole arrays: the mark each value is read with, its
+plain output text (regex rewrites in pyarrow), the currency each sign names and the
+checks against the convention. Python touches a value one at a time only to write the
+reason for an unresolved one, or to scale a value by a magnitude word or exponent.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Mapping, Sequence
+from decimal import Decimal
+from typing import Any
+
+import numpy as np
+import pyarrow as pa
+import pyarrow.compute as pc
+
+from harmonize.engines.base import Converted, Outcome
+from harmonize.engines.numbers_currency import ranked_candidates, resolve_alone
+from harmonize.engines.numbers_forms import (
+    AMBIGUOUS,
+    COMMA_ONLY,
+    DOT_ONLY,
+    NOT_NUMBER,
+    SAME,
+    Forms,
+    analyse,
+    format_decimal_plain,
+    to_decimal,
+)
+
+MAX_LISTED_CANDIDATES = 6
+UNKNOWN = "?"   # a currency sign the convention does not resolve
+# The decimal mark left open; written as a word (not null) so that a group's convention
+# keeps it when a plan file that drops null values is read back.
+UNDECIDED = "undecided"
+
+
+def decimal_mark_of(convention: Mapping[str, Any]) -> str | None:
+    """The convention's decimal mark, None when it is undecided."""
+    mark = convention.get("decimal_mark")
+    return mark if mark in (".", ",") else None
+
+
+def mark_name(mark: str | None) -> str:
+    return {".": "'.'", ",": "','"}.get(mark or "", "undecided")
+
+
+def settled_marks(convention: Mapping[str, Any]) -> Sequence[str]:
+    settled = convention.get("settled_marks")
+    return (".", ",") if settled is None else settled
+
+
+def choose_marks(forms: Forms, mark: str | None,
+                 settled: Sequence[str] = (".", ",")) -> np.ndarray:
+    """Per value: the mark to read it with ('' where the convention does not read it)."""
+    status = forms.status
+    chosen = np.full(len(forms), "", dtype=object)
+    if mark is None:
+        chosen[(status == SAME) | (status == DOT_ONLY)] = "."
+        chosen[status == COMMA_ONLY] = ","
+        return chosen
+    wrong = DOT_ONLY if mark == "," else COMMA_ONLY
+    chosen[(status != NOT_NUMBER) & (status != wrong) & (status != AMBIGUOUS)] = mark
+    ambiguous = np.flatnonzero(status == AMBIGUOUS)
+    if len(ambiguous):
+        swapped = np.array([forms.swapped_mark(i) for i in ambiguous.tolist()], dtype=object)
+        chosen[ambiguous[np.isin(swapped, list(settled))]] = mark
+    return chosen
+
+
+def plain_texts(digits: np.ndarray, shift: np.ndarray, negative: np.ndarray,
+                keep_trailing_zeros: bool) -> np.ndarray:
+    """Output text for Decimal-ready digit strings, as ``format_decimal_plain`` writes it.
+
+    Unscaled values are rewritten as strings in one pass each (leading zeros, trailing
+    fractional zeros, sign); scaled ones go through ``Decimal``.
+    """
+    text = pa.array(digits.tolist(), type=pa.string())
+    if not keep_trailing_zeros:
+        text = pc.replace_substring_regex(text, r"(\.\d*?)0+$", r"\1")
+        text = pc.replace_substring_regex(text, r"\.$", "")
+    text = pc.replace_substring_regex(text, r"^0+(\d)", r"\1")
+    text = pc.replace_substring_regex(text, r"^\.", "0.")
+    is_zero = np.asarray(pc.match_substring_regex(text, r"^0(\.0*)?$"), dtype=bool)
+    out = np.asarray(text.to_numpy(zero_copy_only=False), dtype=object)
+    signed = negative & ~is_zero
+    out[signed] = "-" + out[signed]
+    for i in np.flatnonzero(shift != 0).tolist():
+        value = to_decimal(digits[i], int(shift[i]), bool(negative[i]))
+        out[i] = format_decimal_plain(value, keep_trailing_zeros)
+    return out
+
+
+def value_currencies(forms: Forms, convention: Mapping[str, Any]) -> np.ndarray:
+    """Per value: the ISO code its sign names ("" none, UNKNOWN if not resolved)."""
+    symbols = convention.get("symbols") or {}
+    tokens, inverse = np.unique(forms.currency, return_inverse=True)
+    codes = [resolve_alone(t) or symbols.get(t) or UNKNOWN if t else "" for t in tokens]
+    return np.asarray(codes, dtype=object)[inverse] if len(tokens) else np.zeros(0, object)
+
+
+def convert_amounts(values: Sequence[str], convention: Mapping[str, Any]) -> Converted:
+    """Convert distinct values under a convention."""
+    forms = analyse(list(values))
+    n = len(forms)
+    result = Converted.empty(n)
+    keep = convention.get("trailing_zeros", "drop") == "keep"
+    chosen = choose_marks(forms, decimal_mark_of(convention), settled_marks(convention))
+    digits = np.where(chosen == ",", forms.comma_digits, forms.dot_digits)
+    texts = plain_texts(digits, forms.shift, forms.negative, keep)
+    codes = value_currencies(forms, convention)
+    problem = _problems(forms, codes, convention)
+    converted = (chosen != "") & (problem == "")
+    result.text = np.where(converted, texts, "").tolist()
+    result.outcome[converted] = Outcome.CONVERTED
+    for i in np.flatnonzero(~converted).tolist():
+        if chosen[i]:
+            result.unresolved(i, _describe(problem[i], forms, i, codes[i], convention),
+                              best=texts[i])
+        else:
+            _unresolved_mark(result, forms, i, convention, keep)
+    if convention.get("currency_mode") == "mixed":
+        default = convention.get("currency") or ""
+        filled = np.where(codes == "", default, codes)
+        result.extra["currency"] = np.where(converted, filled, "").tolist()
+    return result
+
+
+def _problems(forms: Forms, codes: np.ndarray, convention: Mapping[str, Any]) -> np.ndarray:
+    """Per value: why a readable amount still breaks the convention ("" when it does not)."""
+    problem = np.full(len(forms), "", dtype=object)
+    mode = convention.get("currency_mode", "none")
+    column_code = convention.get("currency")
+    named = codes != ""
+    if mode == "single" and column_code:
+        problem[named & (codes != column_code)] = "other-currency"
+    elif mode == "none":
+        problem[named] = "currency"
+    problem[codes == UNKNOWN] = "unknown-currency"
+    if not convention.get("percent"):
+        problem[forms.percent] = "percent"
+    return problem
+
+
+def _describe(problem: str, forms: Forms, i: int, code: str,
+              convention: Mapping[str, Any]) -> str:
+    raw, token = forms.text[i], forms.currency[i]
+    if problem == "percent":
+        return f"{raw!r} is a percentage in a column of plain numbers"
+    if problem == "unknown-currency":
+        options = ", ".join(ranked_candidates(token)[:MAX_LISTED_CANDIDATES])
+        return (f"{token!r} may stand for several currencies ({options}); a country column, "
+                "a currency code elsewhere in the column or in its header would decide")
+    if problem == "currency":
+        return f"{raw!r} names a currency ({code}) in a column of plain numbers"
+    return f"{raw!r} is in {code} but the column is in {convention.get('currency')}"
+
+
+def _reading(forms: Forms, i: int, mark: str, keep: bool) -> str:
+    value = to_decimal(forms.digits_for(i, mark), int(forms.shift[i]), bool(forms.negative[i]))
+    return format_decimal_plain(value, keep)
+
+
+def _unresolved_mark(result: Converted, forms: Forms, i: int, convention: Mapping[str, Any],
+                     keep: bool) -> None:
+    status, raw = forms.status[i], forms.text[i]
+    if status == NOT_NUMBER:
+        result.unresolved(i, f"{raw!r} is not an amount in a form this column's values take")
+        return
+    if status == AMBIGUOUS:
+        readings = {m: _reading(forms, i, m, keep) for m in (".", ",")}
+        result.unresolved(
+            i, f"{raw!r} reads {readings['.']} with '.' as the decimal mark or "
+               f"{readings[',']} with ',' as the decimal mark; no value of its column or "
+               f"group shows the role of {forms.swapped_mark(i)!r} (a value such as "
+               "'1.234,5', '0,5', '1,234.5' or '1,234,567' would decide)",
+            candidates=[readings["."], readings[","]],
+            best=readings.get(convention.get("likely_decimal_mark") or ""))
+        return
+    own = "." if status == DOT_ONLY else ","
+    reading = _reading(forms, i, own, keep)
+    result.unresolved(i, f"{raw!r} is written with {mark_name(own)} as the decimal mark but "
+                         f"its column or group uses {mark_name(decimal_mark_of(convention))}",
+                      candidates=[reading], best=reading)
+
+
+def parse_amounts(values: Sequence[str], convention: Mapping[str, Any]) -> list[Decimal | None]:
+    """Each number string's exact value under a convention, None where it does not read.
+
+    Signs, magnitude words, currency signs and percent signs are read; the value is the
+    number itself (a currency or percent sign does not change it).
+    """
+    forms = analyse(list(values))
+    chosen = choose_marks(forms, decimal_mark_of(convention), settled_marks(convention))
+    return [to_decimal(forms.digits_for(i, chosen[i]), int(forms.shift[i]),
+                       bool(forms.negative[i])) if chosen[i] else None
+            for i in range(len(forms))]
+
+
+def parse_amount(text: str, convention: Mapping[str, Any]) -> Decimal | None:
+    """One number string under a convention (see ``parse_amounts``)."""
+    return parse_amounts([text], convention)[0]

@@ -1,0 +1,269 @@
+"""Reading the written form of amounts, vectorised over distinct values.
+
+Each distinct value is split once by one regular expression (pandas ``str.extract``)
+into sign, currency, number body, exponent, magnitude word, percent sign and trailing
+minus. The body is then tested against the two families of conventions:
+
+* ``"."`` family: ``.`` is the decimal mark; ``,`` (3-digit or lakh 2-2-3 grouping),
+  a space of any kind or an apostrophe (``'`` or ``’``) groups digits.
+* ``","`` family: ``,`` is the decimal mark; ``.``, a space or an apostrophe groups.
+
+A body that only one family reads *decides* the mark ("1.234,5", "0,5", "1,234,567");
+one that both read with different values is *ambiguous* ("1.234", "2,500"); one that
+both read alike says nothing ("1234", "1 234").
+"""
+
+from __future__ import annotations
+
+import re
+from dataclasses import dataclass
+from decimal import Context, Decimal
+from functools import cache
+from typing import Any
+
+import numpy as np
+import pyarrow as pa
+import pyarrow.compute as pc
+
+from harmonize.engines.numbers_currency import iso_codes, literal, sign_pattern
+from harmonize.locales import load_entries
+
+MAGNITUDE_FILE = "magnitudes"
+CURRENCY_ONLY_SUFFIX = "+currency"
+LONG_DIGITS = 16  # digit strings this long are codes (cards, accounts), never amounts
+
+# Exact arithmetic for scaling: Decimal's default 28 digits would round long amounts.
+EXACT = Context(prec=200, Emax=10**6, Emin=-(10**6))
+
+# Space look-alikes, apostrophe look-alikes and minus look-alikes folded to one form.
+FOLD_MAP = {
+    "\u00a0": " ", "\u202f": " ", "\u2009": " ", "\u2007": " ", "\u2002": " ",
+    "\u2003": " ", "\u2005": " ", "\u2006": " ", "\t": " ",
+    "’": "'", "ʼ": "'", "′": "'", "‘": "'",
+    "\u2212": "-", "\u2012": "-", "\u2013": "-", "\u2014": "-", "\ufe63": "-", "\uff0d": "-",
+    **{chr(0xFF10 + d): str(d) for d in range(10)},  # full-width digits
+}
+FOLD_PAIRS = tuple(FOLD_MAP.items())
+FOLD = str.maketrans(FOLD_MAP)
+
+# Status of a body under the two families (see module docstring).
+NOT_NUMBER, SAME, DOT_ONLY, COMMA_ONLY, AMBIGUOUS = range(5)
+FAMILIES = (".", ",")
+
+
+def _grouped(mark: str) -> str:
+    return rf"[1-9]\d{{0,2}}(?:{mark}\d{{3}})+"
+
+
+_CODE_SHAPE = re.compile(r"[A-Z]{3}")
+_LAKH = r"[1-9]\d?(?:,\d\d)+,\d{3}"
+_INT_DOT = "|".join([r"\d+", _grouped(","), _grouped(" "), _grouped("'"), _LAKH])
+_INT_COMMA = "|".join([r"\d+", _grouped(r"\."), _grouped(" "), _grouped("'")])
+DOT_BODY = re.compile(rf"(?:{_INT_DOT})(?:\.\d+)?|\.\d+")
+COMMA_BODY = re.compile(rf"(?:{_INT_COMMA})(?:,\d+)?|,\d+")
+
+
+@dataclass(frozen=True)
+class Magnitudes:
+    exponents: dict[str, int]     # word as matched (folded for words) -> power of ten
+    currency_only: frozenset[str]
+    pattern: str
+
+
+@cache
+def magnitudes() -> Magnitudes:
+    exponents: dict[str, int] = {}
+    currency_only: set[str] = set()
+    for key, words in load_entries(MAGNITUDE_FILE).items():
+        power = int(key.removesuffix(CURRENCY_ONLY_SUFFIX).lstrip("e"))
+        for word in words:
+            exponents[_magnitude_key(word)] = power
+            if key.endswith(CURRENCY_ONLY_SUFFIX):
+                currency_only.add(_magnitude_key(word))
+    words = sorted({w for ws in load_entries(MAGNITUDE_FILE).values() for w in ws},
+                   key=len, reverse=True)
+    parts = [literal(w) if len(w) == 1 else f"(?i:{literal(w)})" for w in words]
+    return Magnitudes(exponents, frozenset(currency_only), "|".join(parts))
+
+
+def _magnitude_key(word: str) -> str:
+    return word if len(word) == 1 else word.casefold()
+
+
+# The number itself, with whatever comes before and after it; pyarrow (RE2) runs this over
+# all values, and the few distinct prefixes and suffixes are then read in Python.
+SPLIT_PATTERN = r"^(?P<pre>\D*?)(?P<num>\d[\d.,' ]*\d|\d|[.,]\d+)(?P<post>\D*|[eE].*)$"
+
+
+@cache
+def prefix_regex() -> re.Pattern[str]:
+    cur = sign_pattern()
+    return re.compile(rf"(?P<open>\()? *(?P<sign1>[-+])? *(?P<cur1>{cur})? *(?P<sign2>[-+])? *")
+
+
+@cache
+def suffix_regex() -> re.Pattern[str]:
+    cur = sign_pattern()
+    mag = magnitudes().pattern
+    return re.compile(
+        rf"(?P<dash>[.,]--?)?(?P<exp>[eE][-+]?\d{{1,3}})?(?: *(?P<mag>{mag}))?"
+        rf"(?: *(?P<pct>%))?(?: *(?P<cur2>{cur}))?(?P<trail> *-)? *(?P<close>\))?")
+
+
+def _read_affixes(affixes: np.ndarray, pattern: re.Pattern[str],
+                  names: tuple[str, ...]) -> tuple[np.ndarray, dict[str, np.ndarray]]:
+    """Match each distinct prefix (or suffix) once; spread the parts back over values."""
+    distinct, inverse = np.unique(affixes, return_inverse=True)
+    ok = np.zeros(len(distinct), dtype=bool)
+    parts = {name: np.full(len(distinct), "", dtype=object) for name in names}
+    for k, affix in enumerate(distinct.tolist()):
+        found = pattern.fullmatch(affix)
+        if found:
+            ok[k] = True
+            for name in names:
+                parts[name][k] = found.group(name) or ""
+    return ok[inverse], {name: part[inverse] for name, part in parts.items()}
+
+
+@dataclass(frozen=True)
+class Forms:
+    """The written form of each distinct value (arrays aligned with the values)."""
+
+    text: np.ndarray        # folded, stripped text
+    body: np.ndarray        # the digits and marks of the number itself
+    status: np.ndarray      # NOT_NUMBER / SAME / DOT_ONLY / COMMA_ONLY / AMBIGUOUS
+    dot_digits: np.ndarray  # body read with "." as decimal mark, as Decimal-ready text
+    comma_digits: np.ndarray
+    shift: np.ndarray       # power of ten from exponent and magnitude word
+    negative: np.ndarray
+    percent: np.ndarray
+    currency: np.ndarray    # the currency sign or code as written ("" when none)
+    bare_digits: np.ndarray  # nothing but digits: "1234", "007"
+    magnitude: np.ndarray   # magnitude word as written ("" when none)
+
+    def __len__(self) -> int:
+        return len(self.status)
+
+    @property
+    def is_number(self) -> np.ndarray:
+        return self.status != NOT_NUMBER
+
+    def digits_for(self, i: int, mark: str) -> str:
+        return self.dot_digits[i] if mark == "." else self.comma_digits[i]
+
+    def swapped_mark(self, i: int) -> str:
+        """The one mark of an ambiguous value ("." in "1.234")."""
+        return "." if "." in self.body[i] else ","
+
+
+def analyse(values: list[str] | np.ndarray) -> Forms:
+    """Split every distinct value into its parts and classify its body."""
+    text = pc.utf8_trim_whitespace(pa.array(list(values), type=pa.string()))
+    for old, new in FOLD_PAIRS:
+        text = pc.replace_substring(text, old, new)
+    split = pc.extract_regex(text, SPLIT_PATTERN)
+    matched = np.asarray(split.is_valid(), dtype=bool)
+    pre_ok, pre = _read_affixes(_strings(split.field("pre")), prefix_regex(), _PREFIX)
+    post_ok, post = _read_affixes(_strings(split.field("post")), suffix_regex(), _SUFFIX)
+    has = {name: part != "" for name, part in (pre | post).items()}
+    n_signs = has["sign1"].astype(int) + has["sign2"] + has["trail"] + has["open"]
+    currency = np.where(has["cur1"], pre["cur1"], post["cur2"])
+    magnitude = post["mag"]
+    valid = (matched & pre_ok & post_ok & (has["open"] == has["close"]) & (n_signs <= 1)
+             & ~(has["cur1"] & has["cur2"]) & ~(has["pct"] & (currency != ""))
+             & _known_currency(currency) & _magnitude_allowed(magnitude, currency))
+
+    # "5,-" and "5.–" are whole amounts written with the decimal mark: read as "5,0"/"5.0"
+    dash_mark = _per_distinct(post["dash"], lambda d: d[:1] + "0" if d else "", object)
+    body = pc.binary_join_element_wise(split.field("num"), pa.array(dash_mark.tolist(),
+                                                                    type=pa.string()), "")
+    dot_ok = _fullmatch(body, DOT_BODY) & valid
+    comma_ok = _fullmatch(body, COMMA_BODY) & valid
+    dot_digits = pc.replace_substring_regex(body, r"[, ']", "")
+    comma_digits = pc.replace_substring(pc.replace_substring_regex(body, r"[. ']", ""), ",", ".")
+    bare = _fullmatch(body, re.compile(r"\d+")) & valid & (n_signs == 0) & (currency == "") & ~(
+        has["pct"] | has["mag"] | has["exp"])
+    too_long = bare & (np.asarray(pc.utf8_length(body).fill_null(0)) >= LONG_DIGITS)
+    dot_ok &= ~too_long
+    comma_ok &= ~too_long
+
+    dot_np, comma_np = _strings(dot_digits), _strings(comma_digits)
+    status = np.full(len(text), NOT_NUMBER, dtype=np.int8)
+    same = dot_np == comma_np
+    status[dot_ok & comma_ok & same] = SAME
+    status[dot_ok & comma_ok & ~same] = AMBIGUOUS
+    status[dot_ok & ~comma_ok] = DOT_ONLY
+    status[comma_ok & ~dot_ok] = COMMA_ONLY
+
+    exp = _per_distinct(post["exp"], lambda e: int(e[1:]) if e else 0, np.int64)
+    shift = exp + _magnitude_powers(magnitude)
+    negative = (pre["sign1"] == "-") | (pre["sign2"] == "-") | has["trail"] | has["open"]
+    return Forms(text=_strings(text), body=_strings(body), status=status, dot_digits=dot_np,
+                 comma_digits=comma_np, shift=shift, negative=negative, percent=has["pct"],
+                 currency=currency, bare_digits=bare, magnitude=magnitude)
+
+
+def _per_distinct(values: np.ndarray, function: Any, dtype: Any) -> np.ndarray:
+    distinct, inverse = np.unique(values, return_inverse=True)
+    return np.array([function(v) for v in distinct.tolist()], dtype=dtype)[inverse]
+
+
+_PREFIX = ("open", "sign1", "cur1", "sign2")
+_SUFFIX = ("dash", "exp", "mag", "pct", "cur2", "trail", "close")
+
+
+def _strings(array: pa.Array) -> np.ndarray:
+    return np.asarray(array.fill_null("").to_numpy(zero_copy_only=False), dtype=object)
+
+
+def _fullmatch(array: pa.Array, pattern: re.Pattern[str]) -> np.ndarray:
+    found = pc.match_substring_regex(array, f"^(?:{pattern.pattern})$")
+    return np.asarray(found.fill_null(False), dtype=bool)
+
+
+def _magnitude_powers(magnitude: np.ndarray) -> np.ndarray:
+    powers = np.zeros(len(magnitude), dtype=np.int64)
+    used = magnitude != ""
+    if used.any():
+        table = magnitudes().exponents
+        words, inverse = np.unique(magnitude[used], return_inverse=True)
+        powers[used] = np.array([table.get(_magnitude_key(w), 0) for w in words])[inverse]
+    return powers
+
+
+def _known_currency(currency: np.ndarray) -> np.ndarray:
+    """Three capital letters match the pattern; only ISO 4217 codes count."""
+    tokens, inverse = np.unique(currency, return_inverse=True)
+    codes = iso_codes()
+    ok = np.array([t in codes or not _CODE_SHAPE.fullmatch(t) for t in tokens], dtype=bool)
+    return ok[inverse]
+
+
+def _magnitude_allowed(magnitude: np.ndarray, currency: np.ndarray) -> np.ndarray:
+    currency_only = magnitudes().currency_only
+    only = [w for w in np.unique(magnitude) if w and _magnitude_key(w) in currency_only]
+    return ~(np.isin(magnitude, only) & (currency == ""))
+
+
+def to_decimal(digits: str, shift: int, negative: bool) -> Decimal:
+    """The exact value of a normalised body ("1234.5") scaled and signed."""
+    value = Decimal(digits)
+    if shift:
+        value = value.scaleb(shift, EXACT)
+    return -value if negative else value
+
+
+def format_decimal_plain(value: Decimal, keep_trailing_zeros: bool = False) -> str:
+    """Plain text: "." as decimal mark, no grouping, no exponent, no "-0".
+
+    Trailing fractional zeros are dropped by default ("12.50" -> "12.5", "1200.0" ->
+    "1200"), so equal amounts give equal text; ``keep_trailing_zeros`` keeps them as
+    written.
+    """
+    if not value.is_finite():
+        raise ValueError(f"not a finite number: {value}")
+    if value.is_zero():
+        value = value.copy_abs()
+    if not keep_trailing_zeros:
+        value = value.normalize(EXACT)
+    return format(value, "f")

@@ -1,0 +1,174 @@
+"""Splitting quantity cells and headers into number parts and unit tokens.
+
+A cell is one of: a bare number ("72.5"), a number and a unit with or without a space
+("5kg", "1,5 Kilo", "-40 °F"), or a compound of several of them in one dimension with
+falling units ("5' 11\"", "5 ft 11 in", "1 h 30 min", "11 st 4 lb"; after feet or stone
+the last unit may be left out: "5'11"). Anything else is not a quantity.
+
+The simple forms are split for all distinct values at once by one regular expression
+(pandas ``str.extract``); only cells whose unit part still holds a digit are tried as
+compounds. Number parts are not read here: the numbers engine's parser reads them, so
+that "1.234,5" and "1,234.5" follow the same decimal-mark rules in every engine.
+"""
+
+from __future__ import annotations
+
+import re
+import unicodedata
+from collections.abc import Sequence
+from dataclasses import dataclass
+from functools import cache
+
+import numpy as np
+import pandas as pd
+
+from harmonize.engines.numbers_forms import FOLD
+from harmonize.engines.units_registry import UNITS, Reading, normalise_token, read_token
+from harmonize.locales import load_entries
+
+# A number part: digits grouped by three (space, apostrophe, dot or comma), or plain digits,
+# with an optional fraction and exponent. The reading of the marks is left to the parser.
+NUMBER = (r"(?:\d{1,3}(?:[ '.,]\d{3})+(?:[.,]\d+)?|\d+(?:[.,]\d+)?|[.,]\d+)"
+          r"(?:[eE][-+]?\d{1,3})?")
+SIMPLE = re.compile(rf"^(?P<sign>[-+])?\s*(?P<num>{NUMBER})\s*(?P<unit>[^\d\s.,+\-].*?)?$")
+PIECE = re.compile(r"(?P<num>\d+(?:[.,]\d+)?)\s*(?P<unit>[^\d\s][^\d]*?)?\s*(?=\d|$)")
+
+# After these units the last part of a compound may omit its unit ("5'11", "11 st 4").
+IMPLIED_NEXT = {"ft": "in", "st": "lb"}
+# The units that may follow each unit in a compound, as customarily written (common
+# practice, no source): "5 ft 11 in", "11 st 4 lb", "1 h 30 min", "1 m 20 cm".
+COMPOUND_NEXT: dict[str, frozenset[str]] = {
+    "mi": frozenset({"yd", "ft"}), "yd": frozenset({"ft", "in"}), "ft": frozenset({"in"}),
+    "st": frozenset({"lb"}), "lb": frozenset({"oz"}), "ton_long": frozenset({"lb"}),
+    "kg": frozenset({"g"}), "m": frozenset({"cm", "mm"}), "cm": frozenset({"mm"}),
+    "km": frozenset({"m"}), "wk": frozenset({"d"}), "d": frozenset({"h"}),
+    "h": frozenset({"min", "s"}), "min": frozenset({"s"})}
+
+Piece = tuple[str, str | None]  # (number part as written, unit token or None)
+
+
+def fold_text(text: str) -> str:
+    """NFKC, then the numbers engine's folding of spaces, apostrophes and minus signs."""
+    return unicodedata.normalize("NFKC", text).translate(FOLD).strip()
+
+
+@dataclass(frozen=True)
+class Cells:
+    """Per distinct value: its pieces (empty when it is not a quantity)."""
+
+    pieces: list[tuple[Piece, ...]]
+
+    @property
+    def bare(self) -> np.ndarray:
+        return np.array([len(p) == 1 and p[0][1] is None for p in self.pieces], dtype=bool)
+
+    @property
+    def parsed(self) -> np.ndarray:
+        return np.array([bool(p) for p in self.pieces], dtype=bool)
+
+    def number_parts(self) -> list[str]:
+        return [num for pieces in self.pieces for num, _ in pieces]
+
+    def tokens(self) -> set[str]:
+        return {unit for pieces in self.pieces for _, unit in pieces if unit is not None}
+
+
+def split_cells(values: Sequence[str]) -> Cells:
+    """Split every distinct value into pieces (vectorised for the simple forms)."""
+    text = pd.Series([fold_text(str(v)) for v in values], dtype=object)
+    parts = text.str.extract(SIMPLE)
+    sign = parts["sign"].fillna("").tolist()
+    nums = parts["num"].tolist()
+    units = parts["unit"].tolist()
+    pieces: list[tuple[Piece, ...]] = []
+    for i, raw in enumerate(text.tolist()):
+        num, unit = nums[i], units[i]
+        if isinstance(num, str) and not isinstance(unit, str):
+            pieces.append(((sign[i] + num, None),))
+        elif isinstance(num, str) and _one_token(unit):
+            pieces.append(((sign[i] + num, unit.strip()),))
+        else:
+            pieces.append(compound(raw))
+    return Cells(pieces)
+
+
+def _one_token(unit: str) -> bool:
+    """A unit part without digits, or one that reads as a unit ("m2", "cm3", "ms-1")."""
+    return not any(c.isdigit() for c in unit) or bool(read_token(unit.strip()).units)
+
+
+@cache
+def compound(text: str) -> tuple[Piece, ...]:
+    """Pieces of a compound quantity, or () when the text is not one."""
+    matches = list(PIECE.finditer(text))
+    if len(matches) < 2 or "".join(m.group(0) for m in matches).replace(" ", "") != \
+            text.replace(" ", ""):
+        return ()
+    pieces: list[Piece] = [(m.group("num"), (m.group("unit") or "").strip() or None)
+                           for m in matches]
+    if pieces[-1][1] is None:
+        implied = IMPLIED_NEXT.get(_single_unit(pieces[-2][1]) or "")
+        if implied is None:
+            return ()
+        pieces[-1] = (pieces[-1][0], UNITS[implied].symbol)
+    return tuple(pieces) if _falling_units(pieces) else ()
+
+
+def _single_unit(token: str | None) -> str | None:
+    if token is None:
+        return None
+    units = read_token(token).units
+    return next(iter(units)) if len(units) == 1 else None
+
+
+def _falling_units(pieces: list[Piece]) -> bool:
+    """Every piece one unit, each customarily written after the one before."""
+    ids = [_single_unit(unit) for _, unit in pieces]
+    if None in ids or any("," in num or "." in num for num, _ in pieces[:-1]):
+        return False
+    return all(b in COMPOUND_NEXT.get(a, ()) for a, b in zip(ids, ids[1:]))
+
+
+# --------------------------------------------------------------------------- headers
+
+_BRACKETED = re.compile(r"[(\[{]\s*(?:in\s+)?(?P<unit>[^()\[\]{}]+?)\s*[)\]}]")
+_IN_WORD = re.compile(r"(?:^|[\s_\-])in[\s_\-]+(?P<unit>[^\s_\-][^_]*?)\s*$", re.IGNORECASE)
+_LAST_WORD = re.compile(r"[\s_\-]+(?P<unit>[^\s_\-]+)\s*$")
+
+
+@dataclass(frozen=True)
+class HeaderUnit:
+    token: str
+    reading: Reading
+    span: tuple[int, int]   # where the unit is written in the header
+
+
+def header_unit(header: str) -> HeaderUnit | None:
+    """The unit a header names: "Weight (lb)", "Länge [cm]", "temp_F", "Weight_in_lbs"."""
+    for pattern, strict in ((_BRACKETED, False), (_IN_WORD, False), (_LAST_WORD, True)):
+        found = None
+        for match in pattern.finditer(header):
+            found = match
+        if found is None:
+            continue
+        token = found.group("unit")
+        reading = read_token(token)
+        if not reading.units:
+            continue
+        if strict and reading.how == "case-folded" and len(normalise_token(token)) < 2:
+            continue  # "Size_M": a one-letter word in the wrong case names no unit
+        return HeaderUnit(token, reading, found.span("unit"))
+    return None
+
+
+@cache
+def _dimension_words() -> dict[str, str]:
+    return {word.casefold(): dim for dim, words in load_entries("unit_dimension_words").items()
+            for word in words}
+
+
+def header_dimensions(header: str) -> set[str]:
+    """Dimensions a header's words name ("Gross weight" -> mass)."""
+    words = re.findall(r"[^\W\d_]+", header.casefold())
+    table = _dimension_words()
+    return {dim for word in words for key, dim in table.items() if word.startswith(key)}
