@@ -71,6 +71,30 @@ def _partitions(plan: ColumnPlan, column: ColumnEvidence, context: Context,
     return parts
 
 
+# Typed workbook numbers arrive as plain text ("1234.5") whatever the column's text cells
+# use as decimal mark, so they are converted under these keys instead.
+TYPED_NUMBER_KEYS = {"decimal_mark": "."}
+
+
+def _conversions(plan: ColumnPlan, column: ColumnEvidence, context: Context,
+                 drift: list[str], row_present: np.ndarray
+                 ) -> list[tuple[np.ndarray, Mapping[str, Any], np.ndarray]]:
+    """(row mask, convention, distinct value codes) for each convert call."""
+    codes = column.codes if column.codes is not None else np.zeros(0, dtype=np.int64)
+    typed = np.zeros(len(column.values), dtype=bool)
+    if plan.kind in ("number", "quantity") and column.typed:
+        typed = np.array([column.typed.get(v) == "number" for v in column.values.tolist()],
+                         dtype=bool)
+    found = []
+    for mask, convention in _partitions(plan, column, context, drift):
+        wanted = np.unique(codes[mask & row_present])
+        for subset, conv in ((wanted[~typed[wanted]], convention),
+                             (wanted[typed[wanted]], {**convention, **TYPED_NUMBER_KEYS})):
+            if len(subset):
+                found.append((mask, conv, subset))
+    return found
+
+
 def _fill(result: Converted, values: np.ndarray, mode: str) -> list[str]:
     text = list(result.text)
     for i in np.nonzero(result.outcome == Outcome.UNRESOLVED)[0]:
@@ -97,11 +121,11 @@ def apply_column(column: ColumnEvidence, plan: ColumnPlan, context: Context) -> 
     fill = context.options.unresolved_fill
     extra_cols: dict[str, np.ndarray] = {}
     row_present = ~is_missing[codes]
-    for mask, convention in _partitions(plan, column, context, result.drift):
+    for mask, convention, wanted in _conversions(plan, column, context, result.drift,
+                                                 row_present):
         rows = mask & row_present
-        wanted = np.unique(codes[rows])
-        if len(wanted) == 0:
-            continue
+        if column.typed and plan.kind in ("number", "quantity"):
+            rows &= np.isin(codes, wanted)  # typed and text values are converted apart
         values = column.values[wanted]
         converted = engine.convert(values.tolist(), convention)
         lookup_text = np.full(len(column.values), "", dtype=object)

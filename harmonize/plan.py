@@ -35,6 +35,7 @@ from harmonize.engines.base import KINDS, Decision, GroupRule
 
 FORMAT = "harmonize-plan"
 VERSION = 1
+NULL_TEXT = "null"  # TOML has no null: a group's explicit null is written as this text
 
 
 class PlanError(ValueError):
@@ -71,9 +72,9 @@ class ColumnPlan:
                                 "unit": self.unit, "output_name": self.output_name,
                                 "convention": self.convention}
         if self.groups is not None:
-            data["groups"] = {"by": self.groups.by,
-                              "conventions": {k: dict(v) for k, v in
-                                              self.groups.conventions.items()}}
+            data["groups"] = {"by": self.groups.by, "conventions": {
+                label: {k: NULL_TEXT if v is None else v for k, v in conv.items()}
+                for label, conv in self.groups.conventions.items()}}
         return data
 
 
@@ -179,8 +180,9 @@ def _read_groups(data: Any, where: str) -> GroupRule | None:
     _check(isinstance(conventions, Mapping) and all(isinstance(v, Mapping)
                                                     for v in conventions.values()),
            where, "field 'groups.conventions' must map each group label to a table")
-    return GroupRule(by=data["by"], conventions={str(k): dict(v)
-                                                 for k, v in conventions.items()})
+    return GroupRule(by=data["by"], conventions={
+        str(label): {k: None if v == NULL_TEXT else v for k, v in conv.items()}
+        for label, conv in conventions.items()})
 
 
 def _read_column(data: Mapping[str, Any], where: str, text: str, line: int) -> ColumnPlan:

@@ -1,0 +1,168 @@
+"""Large delimited files in bounded memory: evidence from a full pass, then apply by chunks.
+
+Pass one reads the file chunk by chunk and adds up each column's distinct values and
+counts (up to ``EVIDENCE_CAP`` distinct values a column; beyond that, further new values
+are counted but not kept, and the report says so). Row order and the columns that split
+rows into groups are read from the first chunk, which keeps its row codes. The engines
+decide on that evidence exactly as for a small file. Pass two converts chunk by chunk
+under the resulting plan and appends each chunk to one temporary output, renamed into
+place at the end, so memory stays flat however long the file is.
+"""
+
+from __future__ import annotations
+
+import csv
+from collections.abc import Callable, Iterator
+from dataclasses import dataclass
+from pathlib import Path
+from typing import Any
+
+import numpy as np
+import pandas as pd
+
+from harmonize.apply import TableResult, apply_table
+from harmonize.decide import decide_table
+from harmonize.engines.base import Outcome
+from harmonize.evidence import ColumnEvidence, TableEvidence
+from harmonize.options import Options
+from harmonize.plan import Plan, TablePlan
+from harmonize.sources import SourceError, _atomic_write, _name_columns, sniff_csv
+
+CHUNK_ROWS = 250_000
+EVIDENCE_CAP = 300_000   # distinct values kept per column for deciding
+SNIFF_BYTES = 1 << 16
+STREAM_ABOVE_BYTES = 256 << 20  # delimited files larger than this stream by default
+
+
+class _Tally:
+    """Distinct values and counts of one column over every chunk (hash joins, no loops)."""
+
+    def __init__(self) -> None:
+        self.counts = pd.Series(dtype=np.int64)
+        self.overflow_rows = 0
+
+    def add(self, series: pd.Series) -> None:
+        chunk = series.value_counts(sort=False)
+        room = EVIDENCE_CAP - len(self.counts)
+        if len(chunk) > room:
+            new = ~chunk.index.isin(self.counts.index)
+            dropped = np.flatnonzero(new)[max(room, 0):]
+            self.overflow_rows += int(chunk.iloc[dropped].sum())
+            chunk = chunk.drop(chunk.index[dropped])
+        self.counts = self.counts.add(chunk, fill_value=0).astype(np.int64)
+
+
+def _dialect(path: Path) -> tuple[str, str]:
+    with path.open("rb") as handle:
+        head = handle.read(SNIFF_BYTES)
+    cut = max(head.rfind(b"\n"), 0) if len(head) == SNIFF_BYTES else len(head)
+    dialect = sniff_csv(head[:cut] or head)  # whole lines, so no character is cut in two
+    if not dialect.delimiter and path.suffix.lower() != ".tsv":
+        raise SourceError(path, "streaming needs a delimited file with two or more columns")
+    delimiter = "\t" if path.suffix.lower() == ".tsv" else dialect.delimiter
+    return dialect.encoding, delimiter
+
+
+def chunks(path: Path, rows: int = CHUNK_ROWS) -> Iterator[pd.DataFrame]:
+    """The file's rows as text frames of at most ``rows`` rows, header names checked."""
+    encoding, delimiter = _dialect(path)
+    names: list[str] | None = None
+    try:
+        reader = pd.read_csv(path, sep=delimiter, encoding=encoding, dtype=object,
+                             keep_default_na=False, na_filter=False, chunksize=rows,
+                             quotechar='"', doublequote=True, engine="c", header=0)
+        for frame in reader:
+            if names is None:
+                names = _name_columns(path, None, [str(c) for c in frame.columns], [])
+            frame.columns = pd.Index(names, dtype=object)
+            yield frame
+    except (pd.errors.ParserError, UnicodeDecodeError) as exc:
+        raise SourceError(path, f"cannot read while streaming: {exc}") from None
+
+
+def gather(path: Path, name: str, rows: int = CHUNK_ROWS) -> tuple[TableEvidence, int, dict]:
+    """Evidence over the whole file (row codes from the first chunk), total rows, notes."""
+    tallies: dict[str, _Tally] = {}
+    first: TableEvidence | None = None
+    total = 0
+    for frame in chunks(path, rows):
+        if first is None:
+            first = TableEvidence.from_frame(frame, file=name)
+        for column in frame.columns:
+            tallies.setdefault(column, _Tally()).add(frame[column])
+        total += len(frame)
+    if first is None:
+        raise SourceError(path, "no data rows")
+    columns = [_with_tally(col, tallies[col.name]) for col in first.columns]
+    notes = {"streamed": True, "chunk_rows": rows, "row_order_rows": first.n_rows,
+             "capped_columns": [c for c, t in tallies.items() if t.overflow_rows]}
+    return TableEvidence(file=name, sheet=None, n_rows=first.n_rows, columns=columns), total, notes
+
+
+def _with_tally(first: ColumnEvidence, tally: _Tally) -> ColumnEvidence:
+    values = tally.counts.index.to_numpy(dtype=object)
+    counts = tally.counts.to_numpy(dtype=np.int64)
+    position = pd.Index(values).get_indexer(first.values)
+    codes = np.where(first.codes >= 0, position[first.codes], -1) if first.codes is not None \
+        else None
+    return ColumnEvidence(first.name, first.index, values, counts, codes, first.typed,
+                          first.formats)
+
+
+@dataclass
+class StreamResult:
+    plan: TablePlan
+    sample: TableResult            # the first chunk's result (examples, evidence)
+    counts: dict[str, dict[str, int]]
+    missing: dict[str, dict[str, int]]
+    unresolved: dict[str, list[dict[str, Any]]]
+    rows: int
+    notes: dict
+
+
+def harmonize_stream(path: Path, name: str, dest: Path | None, options: Options,
+                     plan: Plan | None = None, rows: int = CHUNK_ROWS,
+                     on_chunk: Callable[[int], None] | None = None) -> StreamResult:
+    """Decide (or take the plan), then convert and write chunk by chunk."""
+    evidence, total, notes = gather(path, name, rows)
+    table_plan = None
+    if plan is not None:
+        table_plan = plan.table_for(name, None, [c.name for c in evidence.columns])
+    table_plan = table_plan or decide_table(evidence, options)
+    state: dict[str, Any] = {"done": 0, "sample": None, "counts": {}, "missing": {},
+                             "unresolved": {}}
+
+    def convert_all(handle: Any) -> None:
+        for frame in chunks(path, rows):
+            result = apply_table(TableEvidence.from_frame(frame, file=name), table_plan, options)
+            _accumulate(state, result)
+            if handle is not None:
+                result.frame.to_csv(handle, index=False, header=state["done"] == 0,
+                                    lineterminator="\n", quoting=csv.QUOTE_MINIMAL,
+                                    encoding="utf-8")
+            state["done"] += len(frame)
+            if on_chunk:
+                on_chunk(state["done"])
+
+    if dest is None:
+        convert_all(None)
+    else:
+        _atomic_write(dest, convert_all)
+    return StreamResult(table_plan, state["sample"], state["counts"], state["missing"],
+                        state["unresolved"], total, notes)
+
+
+def _accumulate(state: dict[str, Any], result: TableResult) -> None:
+    if state["sample"] is None:
+        state["sample"] = result
+    for column in result.columns:
+        name = column.plan.name
+        tally = state["counts"].setdefault(name, dict.fromkeys((o.label for o in Outcome), 0))
+        for label, n in column.counts().items():
+            tally[label] += n
+        missing = state["missing"].setdefault(name, {})
+        for token, n in column.missing.items():
+            missing[token] = missing.get(token, 0) + n
+        for cell in column.unresolved:
+            state["unresolved"].setdefault(name, []).append(
+                {**cell, "offset": cell["offset"] + state["done"]})
