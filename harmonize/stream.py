@@ -57,10 +57,10 @@ def _dialect(path: Path) -> tuple[str, str]:
         head = handle.read(SNIFF_BYTES)
     cut = max(head.rfind(b"\n"), 0) if len(head) == SNIFF_BYTES else len(head)
     dialect = sniff_csv(head[:cut] or head)  # whole lines, so no character is cut in two
-    if not dialect.delimiter and path.suffix.lower() != ".tsv":
-        raise SourceError(path, "streaming needs a delimited file with two or more columns")
-    delimiter = "\t" if path.suffix.lower() == ".tsv" else dialect.delimiter
-    return dialect.encoding, delimiter
+    if path.suffix.lower() == ".tsv":
+        return dialect.encoding, "\t"
+    # a one-column file: split on a control character that text does not hold
+    return dialect.encoding, dialect.delimiter or "\x1f"
 
 
 def chunks(path: Path, rows: int = CHUNK_ROWS) -> Iterator[pd.DataFrame]:
