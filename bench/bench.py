@@ -34,7 +34,8 @@ HARMONIZE = """
 import resource, sys, time
 import harmonize
 t = time.perf_counter()
-harmonize.run([sys.argv[1]], sys.argv[2], fmt="csv")
+chunk = int(sys.argv[3]) if len(sys.argv) > 3 else None
+harmonize.run([sys.argv[1]], sys.argv[2], fmt="csv", chunk_rows=chunk)
 print(time.perf_counter() - t, resource.getrusage(resource.RUSAGE_SELF).ru_maxrss)
 """
 
@@ -96,9 +97,9 @@ def make_export(rows: int, plain: bool, path: Path, seed: int = 7) -> None:
     pd.DataFrame(columns).to_csv(path, index=False)
 
 
-def measure(script: str, src: Path, dest: Path) -> tuple[float, float]:
-    done = subprocess.run([sys.executable, "-c", script, str(src), str(dest)], check=True,
-                          capture_output=True, text=True)
+def measure(script: str, src: Path, dest: Path, *extra: str) -> tuple[float, float]:
+    done = subprocess.run([sys.executable, "-c", script, str(src), str(dest), *extra],
+                          check=True, capture_output=True, text=True)
     seconds, rss_kb = done.stdout.split()[-2:]
     return float(seconds), float(rss_kb) / 1024
 
@@ -108,7 +109,14 @@ def main() -> None:
     parser.add_argument("--rows", type=int, default=1_000_000)
     parser.add_argument("--plain", action="store_true", help="no columns to convert")
     parser.add_argument("--stages", action="store_true", help="also time each column")
+    parser.add_argument("--stream", type=int, metavar="CHUNK",
+                        help="also run the streaming mode with CHUNK rows per chunk")
+    parser.add_argument("--scaling", action="store_true",
+                        help="streaming peak memory at --rows and at 5 x --rows")
     args = parser.parse_args()
+    if args.scaling:
+        scaling(args.rows, args.stream or 250_000)
+        return
     with tempfile.TemporaryDirectory() as tmp:
         src = Path(tmp) / "export.csv"
         t = time.perf_counter()
@@ -121,6 +129,10 @@ def main() -> None:
         print(f"harmonize apply          : {ours_s:7.2f} s  peak {ours_mb:7.0f} MB")
         print(f"ratio (time)             : {ours_s / floor_s:7.2f}x")
         print(f"ratio (peak memory)      : {ours_mb / floor_mb:7.2f}x")
+        if args.stream:
+            s_s, s_mb = measure(HARMONIZE, src, Path(tmp) / "stream", str(args.stream))
+            print(f"harmonize apply, streamed: {s_s:7.2f} s  peak {s_mb:7.0f} MB "
+                  f"({args.stream:,} rows a chunk)")
         if args.stages:
             done = subprocess.run([sys.executable, "-c", STAGES, str(src),
                                    str(Path(tmp) / "s.csv")], check=True, capture_output=True,
@@ -131,6 +143,21 @@ def main() -> None:
                           f"  ({value[2]:,} distinct)")
                 else:
                     print(f"  {name:45s} {value:6.2f} s")
+
+
+def scaling(rows: int, chunk: int) -> None:
+    """Peak memory of the streaming mode at ``rows`` and five times as many rows."""
+    peaks = []
+    with tempfile.TemporaryDirectory() as tmp:
+        for n in (rows, 5 * rows):
+            src = Path(tmp) / f"export_{n}.csv"
+            make_export(n, False, src)
+            seconds, peak = measure(HARMONIZE, src, Path(tmp) / f"out_{n}", str(chunk))
+            peaks.append(peak)
+            print(f"{n:>10,} rows ({src.stat().st_size / 1e6:6.0f} MB): {seconds:7.1f} s, "
+                  f"peak {peak:6.0f} MB")
+            src.unlink()
+    print(f"peak memory ratio {5 * rows:,} / {rows:,} rows: {peaks[1] / peaks[0]:.2f}x")
 
 
 if __name__ == "__main__":

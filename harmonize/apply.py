@@ -17,7 +17,7 @@ import pandas as pd
 
 from harmonize.context import Context
 from harmonize.engines import engine_named
-from harmonize.engines.base import Converted, Outcome
+from harmonize.engines.base import Converted, Outcome, companions_of
 from harmonize.engines.missing import MissingRule
 from harmonize.evidence import ColumnEvidence, TableEvidence
 from harmonize.options import Options
@@ -141,6 +141,8 @@ def apply_column(column: ColumnEvidence, plan: ColumnPlan, context: Context) -> 
             target[rows] = lookup[codes[rows]]
         _note_unresolved(result, converted, wanted, column, codes, rows)
         _note_examples(result, converted, wanted, column)
+    for suffix in companions_of(engine, plan.convention):
+        extra_cols.setdefault(suffix, np.full(n, "", dtype=object))
     for suffix, values_out in extra_cols.items():
         result.extra[f"{result.output_name} {suffix}"] = values_out
     return result

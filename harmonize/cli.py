@@ -60,6 +60,9 @@ def input_options(func: Any) -> Any:
         click.option("--chunk-rows", type=click.IntRange(min=1000), metavar="N",
                      help="Read and convert delimited files N rows at a time, in bounded "
                      "memory (files over 256 MB do so anyway)."),
+        click.option("--dask", "use_dask", is_flag=True,
+                     help="Send delimited files through Dask's scheduler, in partitions "
+                     "(needs the 'dask' extra)."),
     ]
     for decorator in reversed(decorators):
         func = decorator(func)
@@ -83,7 +86,8 @@ def _jobs(jobs: int) -> int:
 
 def _execute(inputs: tuple[Path, ...], out: Path | None, options: Options, *,
              plan_file: Path | None = None, fmt: str | None = None, jobs: int = 1,
-             quiet: bool = False, chunk_rows: int | None = None) -> RunResult:
+             quiet: bool = False, chunk_rows: int | None = None,
+             use_dask: bool = False) -> RunResult:
     plan = None
     if plan_file is not None:
         try:
@@ -93,7 +97,8 @@ def _execute(inputs: tuple[Path, ...], out: Path | None, options: Options, *,
     try:
         with _progress(quiet) as on_file:
             result = run(inputs, out, plan=plan, options=options, fmt=fmt, jobs=_jobs(jobs),
-                         on_file=on_file, plan_source=plan_file, chunk_rows=chunk_rows)
+                         on_file=on_file, plan_source=plan_file, chunk_rows=chunk_rows,
+                         dask=use_dask)
     except (SourceError, RunError) as exc:
         _fail(str(exc))
     for error in result.errors:
@@ -166,12 +171,12 @@ def main() -> None:
               help="Also write the HTML report to this file.")
 def inspect(inputs: tuple[Path, ...], region: str | None, date_order: str | None,
             locale: str | None, missing_words: tuple[str, ...], undecided_as: str,
-            jobs: int, chunk_rows: int | None, as_json: bool,
+            jobs: int, chunk_rows: int | None, use_dask: bool, as_json: bool,
             html_file: Path | None) -> None:
     """Show what each column holds and what would be done, without writing data."""
     options = _options(region, date_order, locale, missing_words, undecided_as)
     result = _execute(inputs, None, options, jobs=jobs, quiet=as_json,
-                      chunk_rows=chunk_rows)
+                      chunk_rows=chunk_rows, use_dask=use_dask)
     if as_json:
         click.echo(json.dumps(result.report, ensure_ascii=False, indent=1))
     else:
@@ -190,10 +195,11 @@ def inspect(inputs: tuple[Path, ...], region: str | None, date_order: str | None
               help="Where to write the plan.")
 def plan(inputs: tuple[Path, ...], region: str | None, date_order: str | None,
          locale: str | None, missing_words: tuple[str, ...], undecided_as: str, jobs: int,
-         chunk_rows: int | None, plan_file: Path) -> None:
+         chunk_rows: int | None, use_dask: bool, plan_file: Path) -> None:
     """Decide every column and save the decisions as an editable plan file."""
     options = _options(region, date_order, locale, missing_words, undecided_as)
-    result = _execute(inputs, None, options, jobs=jobs, chunk_rows=chunk_rows)
+    result = _execute(inputs, None, options, jobs=jobs, chunk_rows=chunk_rows,
+                      use_dask=use_dask)
     plans.save(result.plan, plan_file)
     click.echo(f"plan for {len(result.plan.tables)} table(s) written to {plan_file}")
     sys.exit(EXIT_PARTIAL if result.errors else 0)
@@ -213,13 +219,14 @@ def plan(inputs: tuple[Path, ...], region: str | None, date_order: str | None,
 @click.option("--json", "as_json", is_flag=True, help="Print the summary as JSON.")
 def apply(inputs: tuple[Path, ...], region: str | None, date_order: str | None,
           locale: str | None, missing_words: tuple[str, ...], undecided_as: str, jobs: int,
-          chunk_rows: int | None, out_dir: Path, fmt: str | None, plan_file: Path | None,
+          chunk_rows: int | None, use_dask: bool, out_dir: Path, fmt: str | None,
+          plan_file: Path | None,
           fail_on_drift: bool, quiet: bool, as_json: bool) -> None:
     """Harmonise the inputs into --out, with harmonize-report.json/.html and
     unresolved.csv beside the data."""
     options = _options(region, date_order, locale, missing_words, undecided_as)
     result = _execute(inputs, out_dir, options, plan_file=plan_file, fmt=fmt, jobs=jobs,
-                      quiet=quiet or as_json, chunk_rows=chunk_rows)
+                      quiet=quiet or as_json, chunk_rows=chunk_rows, use_dask=use_dask)
     summary = {**result.report["summary"], "errors": len(result.errors),
                "drift": result.drift, "out": str(out_dir)}
     if as_json:
@@ -246,13 +253,13 @@ def apply(inputs: tuple[Path, ...], region: str | None, date_order: str | None,
 @click.option("--csv", "as_csv", is_flag=True, help="Print every undecided cell as CSV.")
 def ambiguous(inputs: tuple[Path, ...], region: str | None, date_order: str | None,
               locale: str | None, missing_words: tuple[str, ...], undecided_as: str,
-              jobs: int, chunk_rows: int | None, plan_file: Path | None,
+              jobs: int, chunk_rows: int | None, use_dask: bool, plan_file: Path | None,
               as_csv: bool) -> None:
     """List the cells that remain undecided, per file and column, and what would
     decide them."""
     options = _options(region, date_order, locale, missing_words, undecided_as)
     result = _execute(inputs, None, options, plan_file=plan_file, jobs=jobs, quiet=as_csv,
-                      chunk_rows=chunk_rows)
+                      chunk_rows=chunk_rows, use_dask=use_dask)
     cells = result.report["unresolved"]
     if as_csv:
         from harmonize.report import unresolved_csv

@@ -142,17 +142,17 @@ def _write_outputs(pending: list[tuple[Path, str, pd.DataFrame, str | None]],
         write_workbook(sheets, dest)
 
 
-def _streams(path: Path, fmt: str | None, chunk_rows: int | None) -> bool:
+def _streams(path: Path, fmt: str | None, chunk_rows: int | None, dask: bool) -> bool:
     """Stream a delimited file when asked to, or when it is too big to hold at ease."""
     from harmonize.stream import STREAM_ABOVE_BYTES
     if path.suffix.lower() not in {".csv", ".tsv", ".txt"} or fmt not in (None, "csv"):
         return False
-    return bool(chunk_rows) or path.stat().st_size > STREAM_ABOVE_BYTES
+    return dask or bool(chunk_rows) or path.stat().st_size > STREAM_ABOVE_BYTES
 
 
 def _process_stream(path: Path, rel: Path, out_dir: Path | None, options: Options,
                     plan: Plan | None, inputs: set[Path], chunk_rows: int | None,
-                    outcome: FileOutcome) -> None:
+                    outcome: FileOutcome, dask: bool = False) -> None:
     from harmonize.stream import CHUNK_ROWS, harmonize_stream
     rel_out = rel.with_suffix(rel.suffix.lower() if rel.suffix.lower() != ".tsv" else ".csv")
     dest = None
@@ -161,31 +161,48 @@ def _process_stream(path: Path, rel: Path, out_dir: Path | None, options: Option
         if dest.resolve() in inputs:
             raise RunError(f"{dest}: refusing to overwrite an input file")
         dest.parent.mkdir(parents=True, exist_ok=True)
-    result = harmonize_stream(path, str(rel), dest, options, plan, chunk_rows or CHUNK_ROWS)
-    entry, _ = rpt.table_entry(result.sample, input_name=str(rel), sheet=None,
+    if dask:
+        from harmonize.distributed import harmonize_csv_dask
+        from harmonize.sources import sniff_csv
+        with path.open("rb") as handle:
+            head = handle.read(1 << 16)
+        dialect = sniff_csv(head[: max(head.rfind(b"\n"), 1)])
+        table_plan = plan.table_for(str(rel), None, []) if plan is not None else None
+        found = harmonize_csv_dask(str(path), str(rel), dest, options, table_plan,
+                                   sep=dialect.delimiter or "\x1f", encoding=dialect.encoding)
+        notes = {"dask": True, "partitions": found["partitions"]}
+    else:
+        result = harmonize_stream(path, str(rel), dest, options, plan,
+                                  chunk_rows or CHUNK_ROWS)
+        found = {"plan": result.plan, "sample": result.sample, "rows": result.rows,
+                 "counts": result.counts, "missing": result.missing,
+                 "unresolved": result.unresolved}
+        notes = result.notes
+    entry, _ = rpt.table_entry(found["sample"], input_name=str(rel), sheet=None,
                                output=str(rel_out) if out_dir else None)
-    entry["rows"] = result.rows
-    entry["streamed"] = result.notes
+    entry["rows"] = found["rows"]
+    entry["streamed"] = notes
     for column in entry["columns"]:
-        column["counts"] = result.counts.get(column["name"], column["counts"])
-        column["missing"] = result.missing.get(column["name"], {})
+        column["counts"] = found["counts"].get(column["name"], column["counts"])
+        column["missing"] = found["missing"].get(column["name"], {})
     outcome.entries.append(entry)
     outcome.unresolved += [
         {"file": str(rel), "sheet": None, "row": 2 + cell["offset"], "column": name,
          "value": cell["value"], "reason": cell["reason"],
          "candidates": list(cell["candidates"]), "best": cell.get("best")}
-        for name, cells in result.unresolved.items() for cell in cells]
-    outcome.plans.append(result.plan)
+        for name, cells in found["unresolved"].items() for cell in cells]
+    outcome.plans.append(found["plan"])
     outcome.outputs.append(str(rel_out))
 
 
 def process_file(path: Path, rel: Path, out_dir: Path | None, options: Options,
                  plan: Plan | None, fmt: str | None, inputs: set[Path],
-                 chunk_rows: int | None = None) -> FileOutcome:
+                 chunk_rows: int | None = None, dask: bool = False) -> FileOutcome:
     outcome = FileOutcome(input=str(rel))
     try:
-        if _streams(path, fmt, chunk_rows):
-            _process_stream(path, rel, out_dir, options, plan, inputs, chunk_rows, outcome)
+        if _streams(path, fmt, chunk_rows, dask):
+            _process_stream(path, rel, out_dir, options, plan, inputs, chunk_rows, outcome,
+                            dask)
             return outcome
         tables = read_tables(path)
         pending = []
@@ -225,11 +242,13 @@ def _relative_names(paths: Sequence[str | Path]) -> list[tuple[Path, Path]]:
 def run(paths: Sequence[str | Path], out_dir: str | Path | None = None, *,
         plan: Plan | None = None, options: Options | None = None, fmt: str | None = None,
         jobs: int = 1, on_file: Callable[[FileOutcome], None] | None = None,
-        plan_source: str | Path | None = None, chunk_rows: int | None = None) -> RunResult:
+        plan_source: str | Path | None = None, chunk_rows: int | None = None,
+        dask: bool = False) -> RunResult:
     """Harmonise every input; write outputs and reports to ``out_dir`` when given.
 
     ``chunk_rows`` streams delimited files that many rows at a time (bounded memory);
-    files above ``stream.STREAM_ABOVE_BYTES`` stream anyway."""
+    files above ``stream.STREAM_ABOVE_BYTES`` stream anyway. ``dask`` sends delimited
+    files through Dask (``harmonize.distributed``) on whatever scheduler is active."""
     options = options or Options()
     if fmt is not None and fmt not in OUTPUT_FORMATS:
         raise RunError(f"unknown output format {fmt!r}; use one of {', '.join(OUTPUT_FORMATS)}")
@@ -239,7 +258,7 @@ def run(paths: Sequence[str | Path], out_dir: str | Path | None = None, *,
         out_resolved = out.resolve()
         files = [(p, r) for p, r in files if out_resolved not in p.resolve().parents]
     inputs = {p.resolve() for p, _ in files}
-    args = [(p, r, out, options, plan, fmt, inputs, chunk_rows) for p, r in files]
+    args = [(p, r, out, options, plan, fmt, inputs, chunk_rows, dask) for p, r in files]
     outcomes = []
     if jobs > 1 and len(args) > 1:
         with ProcessPoolExecutor(max_workers=jobs) as pool:

@@ -139,3 +139,13 @@ class Engine(Protocol):
     def convert(self, values: Sequence[str], convention: Mapping[str, Any]) -> Converted:
         """Convert distinct raw values (never missing ones) under ``convention``."""
         ...
+
+
+def companions_of(engine: Engine, convention: Mapping[str, Any]) -> tuple[str, ...]:
+    """Suffixes of the companion columns an engine writes under a convention.
+
+    Optional part of the protocol (``companions(convention)``): declaring them lets every
+    chunk, partition and empty table carry the same columns, whatever its values.
+    """
+    declare = getattr(engine, "companions", None)
+    return tuple(declare(convention)) if declare else ()

@@ -334,6 +334,10 @@ class NumberEngine:
     def convert(self, values: Sequence[str], convention: Mapping[str, Any]) -> Converted:
         return convert_amounts(values, convention)
 
+    def companions(self, convention: Mapping[str, Any]) -> tuple[str, ...]:
+        """A column mixing currencies keeps each row's ISO code beside the amount."""
+        return ("currency",) if convention.get("currency_mode") == "mixed" else ()
+
 
 def _decide_percent(column: ColumnEvidence, forms: Forms, number: np.ndarray) -> bool:
     pct_cells = column.counts[number & forms.percent].sum()
