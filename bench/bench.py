@@ -92,7 +92,7 @@ def make_export(rows: int, plain: bool, path: Path, seed: int = 7) -> None:
                              for c in cents]
         units = np.array(["kg", "lb", "g"], dtype=object)[rng.integers(0, 3, rows)]
         columns["Weight"] = [f"{w} {u}" for w, u in zip(rng.integers(1, 500, rows), units)]
-        columns["Phone"] = [f"020 7946 {n:04d}" for n in rng.integers(0, 10000, rows)]
+        columns["Phone"] = [f"+44 20 7946 0{n:03d}" for n in rng.integers(0, 1000, rows)]
         columns["Paid"] = np.array(["yes", "no"], dtype=object)[rng.integers(0, 2, rows)]
     pd.DataFrame(columns).to_csv(path, index=False)
 

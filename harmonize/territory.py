@@ -8,12 +8,14 @@ per-row locale hint (date order, decimal marks, phone region).
 
 from __future__ import annotations
 
+import inspect
 import unicodedata
 from functools import cache
 
 import pycountry
 from babel import Locale
 
+from harmonize.diskcache import cached_json
 from harmonize.locales import load_entries
 
 NAME_LANGUAGES = ("en", "de", "fr", "es", "it", "nl", "pt", "sv", "da", "nb", "fi", "pl",
@@ -27,13 +29,24 @@ def fold(text: str) -> str:
     return "".join(ch for ch in decomposed if ch.isalnum())
 
 
-@cache
-def _name_table() -> dict[str, str]:
+def _cldr_names() -> dict[str, str]:
     table: dict[str, str] = {}
     for lang in NAME_LANGUAGES:
         for code, name in Locale.parse(lang).territories.items():
             if len(code) == 2 and code.isalpha() and code not in ("ZZ", "EU", "EZ", "UN", "QO"):
                 table.setdefault(fold(name), code)
+    return table
+
+
+@cache
+def _name_table() -> dict[str, str]:
+    import hashlib
+
+    import babel
+    # the key changes with babel, the languages read, and the folding rule (its source)
+    recipe = ",".join(NAME_LANGUAGES) + inspect.getsource(fold)
+    version = f"{babel.__version__}-{hashlib.sha1(recipe.encode()).hexdigest()[:10]}"
+    table: dict[str, str] = dict(cached_json("cldr-territory-names", version, _cldr_names))
     for code, names in load_entries("territory_aliases").items():
         for name in names:
             table[fold(name)] = code

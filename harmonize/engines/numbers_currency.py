@@ -1,7 +1,7 @@
 """Currency signs and ISO 4217 codes, for the numbers engine.
 
 babel has no sign-to-code lookup, so one is built once from every CLDR locale's
-``currency_symbols`` (about 1.5 s, cached), plus the signs in
+``currency_symbols`` (about 1.5 s, then kept in the user's cache folder), plus the signs in
 ``locales/number_currency_symbols.txt`` that CLDR does not carry ("Fr.", "kr", "lei").
 A sign that several currencies share ("$", "¥", "kr") stays ambiguous unless that file
 names a preferred reading; the engine then resolves it from the data's context.
@@ -18,6 +18,7 @@ from babel import numbers as babel_numbers
 from babel.core import UnknownLocaleError
 from babel.localedata import locale_identifiers
 
+from harmonize.diskcache import cached_json
 from harmonize.locales import load_entries
 
 SIGN_FILE = "number_currency_symbols"
@@ -44,7 +45,14 @@ def _is_symbolic(sign: str) -> bool:
 
 @cache
 def _cldr_sign_use() -> dict[str, Counter[str]]:
-    """Sign -> how many CLDR locales write each currency with it."""
+    """Sign -> how many CLDR locales write each currency with it (reading every locale
+    costs about a second, so the table is kept in the user's cache folder)."""
+    import babel
+    stored = cached_json("cldr-currency-signs", babel.__version__, _read_cldr_sign_use)
+    return {sign: Counter(codes) for sign, codes in stored.items()}
+
+
+def _read_cldr_sign_use() -> dict[str, dict[str, int]]:
     table: dict[str, Counter[str]] = {}
     for identifier in locale_identifiers():
         try:
