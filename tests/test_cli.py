@@ -199,3 +199,25 @@ def test_undecided_cells_can_keep_their_text(tmp_path: Path) -> None:
         assert rows[0] == expected
         report = json.loads((out / "harmonize-report.json").read_text("utf-8"))
         assert {u["row"] for u in report["unresolved"]} == {2, 3, 4}
+
+
+def test_edited_date_order_is_followed(tmp_path: Path) -> None:
+    data = tmp_path / "ledger.csv"
+    data.write_text("Booked\n13/04/2024\n03/04/2024\n25/12/2024\n", encoding="utf-8")
+    plan_file = tmp_path / "plan.toml"
+    assert invoke("plan", str(data), "--save", str(plan_file))[0] == 0
+    text = plan_file.read_text("utf-8")
+    assert 'order = "DMY"' in text
+    out = tmp_path / "out"
+    assert invoke("apply", str(data), "--plan", str(plan_file), "--out", str(out), "-q")[0] == 0
+    assert pd.read_csv(out / "ledger.csv", dtype=str)["Booked"].tolist() == [
+        "2024-04-13", "2024-04-03", "2024-12-25"]
+    # A person states month-first: 13/04 and 25/12 become impossible, 03/04 is 4 March.
+    plan_file.write_text(text.replace('order = "DMY"', 'order = "MDY"'), encoding="utf-8")
+    out2 = tmp_path / "out2"
+    assert invoke("apply", str(data), "--plan", str(plan_file), "--out", str(out2), "-q")[0] == 0
+    report = json.loads((out2 / "harmonize-report.json").read_text("utf-8"))
+    frame = pd.read_csv(out2 / "ledger.csv", dtype=str, keep_default_na=False)
+    assert frame["Booked"].tolist()[1] == "2024-03-04"
+    assert {u["row"] for u in report["unresolved"]} == {2, 4}
+    assert any("contradict" in d or "suggests" in d for d in report["files"][0]["drift"])
