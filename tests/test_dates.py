@@ -7,7 +7,7 @@ from __future__ import annotations
 
 import calendar
 from collections import Counter
-from datetime import date, timedelta
+from datetime import date, datetime, timedelta
 
 import babel.dates as bd
 import pandas as pd
@@ -401,3 +401,91 @@ class TestDecisions:
     def test_time_column(self) -> None:
         decision, _ = decide(pd.DataFrame({"t": ["10:30", "11:45:10", "3 PM"]}), "t")
         assert decision.kind == "time"
+
+
+class TestRegionalForms:
+    LOCALES = ("en_GB", "en_US", "en_CA", "en_AU", "en_IN", "de_DE", "de_CH", "fr_FR", "fr_CA",
+               "es_ES", "it_IT", "nl_NL", "pt_BR", "sv_SE", "da_DK", "nb_NO", "fi_FI", "pl_PL",
+               "cs_CZ", "ja_JP", "hu_HU")
+
+    @pytest.mark.parametrize("locale", LOCALES)
+    def test_cldr_dates_and_datetimes_read_back(self, locale: str) -> None:
+        # babel (CLDR 49) writes every width of date and the short/medium date-time of the
+        # locale (fr_CA '15 h 45', da/fi '15.45', ja '2024年4月3日水曜日', pt 'quarta-feira',
+        # fr_CA 'juill.'); each reads back as what Python's datetime holds
+        moment = datetime(2024, 7, 3, 15, 45, 10)
+        order = locale_order(locale)
+        for width in ("short", "medium", "long", "full"):
+            text = bd.format_date(moment.date(), width, locale=locale)
+            assert convert_one(text, order=order, kind="date", year_from=1950) == (
+                "2024-07-03", Outcome.CONVERTED), text
+        for width, seconds in (("short", "00"), ("medium", "10")):
+            text = bd.format_datetime(moment, width, locale=locale)
+            assert convert_one(text, order=order, year_from=1950) == (
+                f"2024-07-03T15:45:{seconds}", Outcome.CONVERTED), text
+
+    def test_weekday_checked_in_japanese(self) -> None:
+        # 2024-07-03 is a Wednesday (Python datetime); CLDR ja: 水曜日 = Wednesday
+        assert date(2024, 7, 3).isoweekday() == 3
+        assert convert_one("2024年7月3日木曜日", kind="date")[1] == Outcome.UNRESOLVED
+
+    def test_impossible_date_is_not_evidence_for_year_first(self) -> None:
+        # 31.09. does not exist (Python datetime): listed, not read as 2031-09-19
+        frame = pd.DataFrame({"d": ["31.09.19", "14.03.19", "02.03.19", "05.04.19"]})
+        out = apply(frame, "d")
+        assert out["31.09.19"] == "" and out["14.03.19"] == "2019-03-14"
+        assert out["02.03.19"] == "2019-03-02"
+
+
+class TestStraysAndBranches:
+    def test_stray_written_another_way_is_listed(self) -> None:
+        # a one-branch ledger written dd.MM.yyyy (de_DE medium, CLDR) with one row pasted
+        # from a branch writing M/d/yy (en_US short): the host's order does not cover it
+        days = [date(2024, 3, d) for d in range(1, 29)]
+        values = [d.strftime("%d.%m.%Y") for d in days] + ["3/4/24", "3/14/24"]
+        decision, evidence = decide(pd.DataFrame({"d": values}), "d")
+        assert decision.convention["order"] == "DMY"
+        result = ENGINE.convert(evidence.values.tolist(), decision.convention)
+        got = dict(zip(evidence.values.tolist(), zip(result.text, result.outcome.tolist(),
+                                                     strict=True), strict=True))
+        assert got["02.03.2024"] == ("2024-03-02", Outcome.CONVERTED)
+        assert got["3/4/24"][1] == Outcome.UNRESOLVED
+        assert got["3/14/24"] == ("2024-03-14", Outcome.CONVERTED)   # one reading only
+
+    def test_slip_against_many_does_not_stop_the_decision(self) -> None:
+        days = [date(2024, 3, d) for d in range(1, 29)]
+        values = [d.strftime("%m/%d/%Y") for d in days] + ["25/03/2024"]
+        decision, _ = decide(pd.DataFrame({"d": values}), "d")
+        assert decision.convention["order"] == "MDY" and decision.confidence < 0.95
+        out = apply(pd.DataFrame({"d": values}), "d")
+        assert out["03/02/2024"] == "2024-03-02" and out["25/03/2024"] == ""
+
+    def test_each_branch_needs_its_own_evidence(self) -> None:
+        # two branches write dd/MM/yyyy alike; only the first shows its order. CLDR gives
+        # US M/d/yy, so a territory is a prior, not evidence: the second's cells are listed
+        frame = pd.DataFrame({
+            "d": ["13/03/2024", "02/03/2024", "14/03/2024", "03/04/2024", "04/03/2024",
+                  "01/03/2024", "02/03/2024", "03/04/2024", "05/03/2024", "06/03/2024",
+                  "02/04/2024", "01/02/2024"],
+            "Country": ["GB"] * 6 + ["US"] * 6})
+        decision, _ = decide(frame, "d")
+        assert decision.groups is not None and decision.groups.by == "Country"
+        assert decision.groups.conventions["GB"]["order"] == "DMY"
+        assert decision.groups.conventions["US"]["order"] is None
+        assert decision.groups.conventions["US"]["likely_order"] == "MDY"
+
+    def test_two_ways_of_writing_each_with_its_order(self) -> None:
+        # merged without a country column: de_DE dd.MM.yy beside en_US M/d/yy (CLDR short)
+        german = [date(2024, 5, d) for d in range(1, 20)]
+        american = [date(2024, 6, d) for d in range(1, 20)]
+        values = [d.strftime("%d.%m.%y") for d in german] + \
+            [f"{d.month}/{d.day}/{d:%y}" for d in american]
+        out = apply(pd.DataFrame({"d": values}), "d")
+        assert out["02.05.24"] == "2024-05-02" and out["6/2/24"] == "2024-06-02"
+
+    def test_row_order_never_outweighs_a_value(self) -> None:
+        # the same day each month (rows read as daily steps the wrong way) and one value
+        # only day-first reads: the value decides
+        values = [f"02/{m:02d}/2024" for m in range(1, 12)] + ["31/12/2024"]
+        decision, _ = decide(pd.DataFrame({"d": values}), "d")
+        assert decision.convention["order"] == "DMY"

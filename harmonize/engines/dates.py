@@ -16,6 +16,11 @@ Convention keys (plain values; edit them in a plan file):
 ``candidates``      orders considered when ``order`` is null, e.g. ["DMY", "MDY"].
 ``likely_order``    the most probable order when undecided; only gives the "best" reading
                     of listed cells, never converts them.
+``order_shapes``    null (``order`` covers every numeric date), or way of writing -> order,
+                    e.g. {"DD.MM.YYYY": "DMY", "M/D/YY": "MDY"}: each value follows the
+                    order of the way it is written; a value written another way (a row
+                    from another branch) whose readings differ is listed, one that reads
+                    in one order only is converted.
 ``year_from``       two-digit years are read in ``year_from`` .. ``year_from + 99``.
 ``numbers``         how bare numbers are read: null (not dates), "compact" (20240403,
                     240403, 1985102), "serial1900" / "serial1904" (spreadsheet serial
@@ -31,13 +36,13 @@ from __future__ import annotations
 
 from collections import Counter
 from collections.abc import Mapping, Sequence
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 from datetime import date
 from typing import Any, ClassVar
 
 import numpy as np
 
-from harmonize.context import Context
+from harmonize.context import Context, Split
 from harmonize.engines.base import Converted, Decision, GroupRule, Outcome
 from harmonize.engines.dates_decide import (
     LR_LOCALE,
@@ -49,6 +54,7 @@ from harmonize.engines.dates_decide import (
     admitted,
     decide,
     format_hints,
+    templates,
 )
 from harmonize.engines.dates_numbers import numbers_mode
 from harmonize.engines.dates_parse import (
@@ -69,7 +75,7 @@ from harmonize.engines.dates_parse import (
     render,
 )
 from harmonize.engines.dates_words import locale_order, territory_order
-from harmonize.engines.grouping import explaining_split
+from harmonize.engines.grouping import GroupSplit, explaining_split
 from harmonize.evidence import ColumnEvidence
 
 SENTINELS = ("1900-01-01", "9999-12-31", "0000-00-00")
@@ -115,7 +121,7 @@ class DateEngine:
         kind = _kind(col, mode)
         convention: dict[str, Any] = {
             "order": None, "candidates": list(orders), "likely_order": None,
-            "year_from": year_from, "numbers": mode.mode, "kind": kind,
+            "order_shapes": None, "year_from": year_from, "numbers": mode.mode, "kind": kind,
             "zone_offsets": dict(context.options.for_engine(self.name).get("zone_offsets", {})),
             "sentinels": list(SENTINELS)}
         evidence = list(mode.evidence)
@@ -145,6 +151,14 @@ class DateEngine:
             convention["order"] = forced
             evidence.append(f"order {forced} stated in the options for this engine")
             return 1.0, None
+        country = context.country_split
+        if country is not None and country.n_groups >= 2 and country.column != column.name:
+            # branches named in a column: each must show its own order (one branch's
+            # evidence says nothing about another's, even when they write alike)
+            grouped = self._by_groups(column, col, context, orders, year_from, convention,
+                                      evidence, details, country)
+            if grouped is not None:
+                return grouped
         hints = _column_hints(column, context, orders)
         verdict = decide(col.parsed, col.counts, orders, year_from, hints, column.codes)
         evidence.extend(verdict.evidence)
@@ -153,6 +167,8 @@ class DateEngine:
                                       evidence, details)
             if grouped is not None:
                 return grouped
+            if verdict.shapes:
+                return _apply(verdict, convention, evidence), None
             evidence.append("values only different orders allow sit side by side and no "
                             "column splits them: cells that decide themselves are converted, "
                             "the rest listed")
@@ -161,7 +177,7 @@ class DateEngine:
 
     def _by_groups(self, column: ColumnEvidence, col: _Column, context: Context,
                    orders: list[str], year_from: int, convention: dict[str, Any],
-                   evidence: list[str], details: dict[str, Any]
+                   evidence: list[str], details: dict[str, Any], given: Split | None = None
                    ) -> tuple[float, GroupRule] | None:
         def admits(part: ColumnEvidence) -> frozenset[str]:
             allowed = frozenset(orders)
@@ -172,7 +188,12 @@ class DateEngine:
                     allowed = allowed & found if found else allowed
             return allowed
 
-        found = explaining_split(column, context, admits, frozenset(orders))
+        if given is not None:
+            parts = tuple(column.by_group(given.codes, given.n_groups))
+            found = GroupSplit(given, parts, tuple(admits(p) if p.total else frozenset(orders)
+                                                   for p in parts))
+        else:
+            found = explaining_split(column, context, admits, frozenset(orders))
         if found is None or (found.split.n_groups > 3 and
                              found.split.n_groups * MIN_GROUP_ROWS > column.n_rows):
             return None  # groups of a row or two explain anything (an amount column)
@@ -188,15 +209,15 @@ class DateEngine:
             parsed = [_effective(parse(v), col.numbers) for v in part.values.tolist()]
             hints = _group_hints(territory, matches, orders)
             verdict = decide(parsed, part.counts, orders, year_from, hints, part.codes)
-            conventions[label] = {"order": verdict.order,
+            conventions[label] = {"order": verdict.order, "order_shapes": verdict.shapes,
                                   "likely_order": None if verdict.order else verdict.leading}
             group_details[label] = {"order": verdict.order, "cells": part.total,
                                     "evidence": verdict.evidence,
                                     "probability": round(verdict.probability, 4)}
             if verdict.order:
                 probability *= verdict.probability
-        evidence.append(f"the column {split.column!r} splits the rows into groups that each "
-                        f"follow one order")
+        evidence.append(f"the column {split.column!r} splits the rows into groups; each "
+                        f"group's order is decided from its own values")
         details["groups"] = group_details
         convention["order"] = None
         return probability, GroupRule(by=split.column, conventions=conventions)
@@ -237,8 +258,10 @@ def _candidate_orders(col: _Column, context: Context, year_from: int) -> list[st
               context.options.for_engine("dates").get("order")}
     compact = col.numbers == "compact" and any(
         p.form == OPEN for p in col.parsed)
-    only_ymd = any(p.form == OPEN and admitted(p, ORDERS, year_from) == {"YMD"}
-                   for p in col.parsed)
+    # a first component above 31 cannot be a day: the year comes first. A value only the
+    # calendar rules out as a day (31.09.19) is an impossible date, not evidence for YMD
+    only_ymd = any(p.form == OPEN and p.parts[0] > 31 and admitted(p, ORDERS, year_from)
+                   == {"YMD"} for p in col.parsed)
     return list(ORDERS) if ("YMD" in stated or compact or only_ymd) else ["DMY", "MDY"]
 
 
@@ -338,6 +361,10 @@ def _group_hints(territory: str | None, matches: tuple[int, int], orders: list[s
 
 def _apply(verdict: Verdict, convention: dict[str, Any], evidence: list[str]) -> float:
     convention["order"] = verdict.order
+    convention["order_shapes"] = verdict.shapes
+    if verdict.shapes and not verdict.order:
+        evidence.append(f"orders per way of writing, probability {verdict.probability:.3f}")
+        return verdict.probability
     if verdict.order:
         evidence.append(f"order {verdict.order} ({NAMES[verdict.order]}) with probability "
                         f"{verdict.probability:.3f}")
@@ -379,6 +406,7 @@ def _zone_note(col: _Column, convention: Mapping[str, Any], details: dict[str, A
 @dataclass(frozen=True)
 class _Settings:
     order: str | None
+    shapes: Mapping[str, str] | None
     candidates: tuple[str, ...]
     likely: str | None
     year_from: int
@@ -390,7 +418,10 @@ class _Settings:
     @classmethod
     def of(cls, convention: Mapping[str, Any]) -> _Settings:
         order = convention.get("order")
-        return cls(order=order,
+        shapes = convention.get("order_shapes")
+        if isinstance(shapes, list):   # a list of ways: all follow ``order``
+            shapes = dict.fromkeys(shapes, order)
+        return cls(order=order, shapes=dict(shapes) if shapes else None,
                    candidates=tuple(convention.get("candidates") or ("DMY", "MDY")),
                    likely=convention.get("likely_order"),
                    year_from=int(convention.get("year_from") or date.today().year - 79),
@@ -427,6 +458,13 @@ def _convert_one(result: Converted, i: int, raw: str, s: _Settings) -> None:
 
 
 def _convert_open(result: Converted, i: int, p: Parsed, s: _Settings) -> None:
+    if s.shapes is not None:
+        matched = {o for o in set(s.shapes.values()) if o and any(
+            s.shapes.get(t) == o for t in templates(p, o))}
+        if len(matched) != 1:
+            _convert_stray(result, i, p, s)
+            return
+        s = replace(s, order=matched.pop())
     if s.order:
         found = reading(p, s.order, s.year_from)
         if found is not None:
@@ -455,6 +493,25 @@ def _convert_open(result: Converted, i: int, p: Parsed, s: _Settings) -> None:
             i, "day and month cannot be told apart: its readings differ and no value, row "
                "order or hint in the data decides the column's order; a country column or a "
                "stated order (options date_order, or 'order' in the plan) would decide it",
+            candidates=texts, best=render(best, p.clock) if best else None)
+
+
+def _convert_stray(result: Converted, i: int, p: Parsed, s: _Settings) -> None:
+    """A value written unlike those that decided the order: only its own readings count."""
+    orders = [o for o in (s.order, *s.candidates) if o]
+    readings = {o: reading(p, o, s.year_from) for o in dict.fromkeys(orders)}
+    distinct = sorted({d for d in readings.values() if d is not None})
+    if len(distinct) == 1:
+        _finish(result, i, distinct[0], p.clock, s)
+    elif not distinct:
+        result.unresolved(i, "impossible date in every order")
+    else:
+        texts = [render(d, p.clock) for d in distinct]
+        best = readings.get(s.order) if s.order else None
+        ways = ", ".join(f"{t} ({o})" for t, o in sorted((s.shapes or {}).items())[:4])
+        result.unresolved(
+            i, f"day and month cannot be told apart: the value is written unlike the values "
+               f"that decided the order ({ways}), so it may come from another convention",
             candidates=texts, best=render(best, p.clock) if best else None)
 
 

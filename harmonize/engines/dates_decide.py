@@ -11,8 +11,15 @@ Every candidate order starts with a prior; each kind of evidence multiplies its 
 * locale hints: a stated locale, the CLDR short date pattern of the rows' territories.
 
 The posterior of the leading order is the probability reported. An order is applied
-to the ambiguous cells only when that probability reaches ``DECIDE`` and no value
-contradicts it; otherwise the ambiguous cells are listed with every reading.
+to the ambiguous cells only when that probability reaches ``DECIDE``, no value
+contradicts it, and values (or a stated order, locale or number format) decide it: a
+territory and row order are priors only. Otherwise the ambiguous cells are listed.
+
+A row pasted from another branch is written that branch's way: another separator, year
+width, zero padding or a time where the others have none. Values written unlike the
+column's main way, if only a few, are left out of the evidence ("strays"), and the order
+then covers only the ways of writing that took part (``shapes``): a stray that reads
+differently in both orders is listed rather than read in an order decided by others.
 """
 
 from __future__ import annotations
@@ -22,6 +29,7 @@ import re
 from collections import Counter
 from collections.abc import Sequence
 from dataclasses import dataclass, field
+from functools import lru_cache
 
 import numpy as np
 
@@ -38,16 +46,27 @@ SMALL_STEP = 7         # days between consecutive distinct dates that count as "
 NAMES = {"DMY": "day first", "MDY": "month first", "YMD": "year first"}
 
 
+OUTLIER_RATIO = 8       # one value against this many distinct ones that agree is a slip
+OUTLIER_DOUBT = 0.9     # chance the column's order is right despite such a slip
+STRAY_CELLS = 2          # up to this many cells written another way are strays ...
+STRAY_SHARE = 0.05       # ... or up to this share of the column's numeric dates
+
+
 @dataclass
 class Hints:
-    """Evidence beside the values themselves: log likelihood ratio per order, and why."""
+    """Evidence beside the values themselves: log likelihood ratio per order, and why.
+
+    ``strong``: a hint that may decide the order without any value doing so (an order,
+    locale or number format the user or the workbook states)."""
 
     log_odds: Counter[str] = field(default_factory=Counter)
     notes: list[str] = field(default_factory=list)
+    strong: bool = False
 
     def add(self, order: str, ratio: float, note: str) -> None:
         self.log_odds[order] += math.log(ratio)
         self.notes.append(note)
+        self.strong = self.strong or ratio >= LR_LOCALE
 
 
 @dataclass
@@ -60,29 +79,31 @@ class Verdict:
     ambiguous: int               # cells whose readings differ
     evidence: list[str]
     mixed: bool = False          # values only different orders allow, beside each other
+    shapes: dict[str, str] | None = None  # way of writing -> its order; None: all ``order``
+    strays: int = 0              # cells written another way, left out of the evidence
 
 
 def admitted(p: Parsed, orders: Sequence[str], year_from: int) -> frozenset[str]:
     return frozenset(o for o in orders if reading(p, o, year_from) is not None)
 
 
-def differ(p: Parsed, orders: Sequence[str], year_from: int) -> bool:
-    found = {reading(p, o, year_from) for o in orders}
-    found.discard(None)
-    return len(found) > 1
-
-
 def decide(parsed: Sequence[Parsed], counts: np.ndarray, orders: Sequence[str],
            year_from: int, hints: Hints, codes: np.ndarray | None = None) -> Verdict:
     """Weigh the evidence for the order of the OPEN values among ``parsed``."""
+    found = families(parsed, counts)
+    family = [m != -2 for m in found.member]
+    strays, stray_examples = found.strays, found.examples
+    pinned_families: dict[int, set[str]] = {}
     decisive: Counter[str] = Counter()
     decisive_distinct: Counter[str] = Counter()
     contradicted: Counter[str] = Counter()
     ambiguous = 0
-    for p, n in zip(parsed, counts.tolist(), strict=True):
-        if p.form != OPEN:
+    for p, n, member, which in zip(parsed, counts.tolist(), family, found.member,
+                                   strict=True):
+        if p.form != OPEN or not member:
             continue
-        allowed = admitted(p, orders, year_from)
+        days = {o: reading(p, o, year_from) for o in orders}
+        allowed = frozenset(o for o, day in days.items() if day is not None)
         if not allowed:
             continue  # impossible under every order: listed, and no evidence either way
         for order in orders:
@@ -92,13 +113,20 @@ def decide(parsed: Sequence[Parsed], counts: np.ndarray, orders: Sequence[str],
             only = next(iter(allowed))
             decisive[only] += n
             decisive_distinct[only] += 1
-        elif differ(p, orders, year_from):
+            pinned_families.setdefault(which, set()).add(only)
+        elif len({day for day in days.values() if day is not None}) > 1:
             ambiguous += n
     notes = [f"{count} {'cell' if count == 1 else 'cells'} only {NAMES[o]} ({o}) reads"
              for o, count in decisive.most_common() if count]
+    if strays:
+        notes.append(f"{strays} {'cell is' if strays == 1 else 'cells are'} written unlike "
+                     f"the rest ({', '.join(stray_examples)}) and left out of the evidence: "
+                     f"another branch's convention may have written them")
     log_odds = Counter({o: contradicted[o] * math.log(SLIP) for o in orders})
     log_odds.update(hints.log_odds)
-    if codes is not None and ambiguous:
+    if codes is not None and ambiguous and not decisive:
+        # row order is a prior for the likely reading only; a ledger of the same day each
+        # month reads as daily steps the wrong way, so it never weighs against values
         _sequence_hint(parsed, codes, orders, year_from, log_odds, notes)
     posterior = _softmax(log_odds, orders)
     leading = max(orders, key=lambda o: (posterior[o], -orders.index(o)))
@@ -106,19 +134,131 @@ def decide(parsed: Sequence[Parsed], counts: np.ndarray, orders: Sequence[str],
     mixed = sum(1 for o in orders if decisive_distinct[o]) >= 2 and not _outliers(
         decisive_distinct, leading)
     order = None
-    if not mixed and posterior[leading] >= DECIDE and (
-            not contradicted[leading] or _outliers(decisive_distinct, leading)):
+    if not mixed and posterior[leading] >= DECIDE and (decisive[leading] or hints.strong) \
+            and (not contradicted[leading] or _outliers(decisive_distinct, leading)):
         order = leading
     if not ambiguous and not decisive:
         order = None  # nothing depends on the order
-    return Verdict(order, leading, posterior[leading], dict(decisive), dict(contradicted),
-                   ambiguous, notes, mixed)
+    shapes, probability = _shape_orders(parsed, found, pinned_families, order, mixed,
+                                        hints.strong, notes)
+    if shapes and mixed:
+        leading, probability = next(iter(shapes.values())), probability
+    else:
+        probability = posterior[leading]
+        if order and contradicted[leading]:
+            probability *= OUTLIER_DOUBT   # a slip, or a second convention barely seen
+    return Verdict(order, leading, probability, dict(decisive), dict(contradicted),
+                   ambiguous, notes, mixed, shapes, strays)
+
+
+def _shape_orders(parsed: Sequence[Parsed], found: Families,
+                  pinned: dict[int, set[str]], order: str | None, mixed: bool, strong: bool,
+                  notes: list[str]) -> tuple[dict[str, str] | None, float]:
+    """Which ways of writing an order covers, when the column writes its dates more than
+    one way (or has strays): each family of ways whose own values show one order.
+    Returns (way -> order, probability that every covered family's order is right)."""
+    if strong or not (found.strays or found.count > 1) or not (order or mixed):
+        return None, 1.0
+    if order and found.count == 1:
+        covered = {0: order}
+    else:
+        covered = {i: next(iter(seen)) for i, seen in pinned.items()
+                   if i >= 0 and len(seen) == 1 and (mixed or seen == {order})}
+    pins = Counter(i for p, i in zip(parsed, found.member, strict=True) if i in covered)
+    probability = math.prod(1.0 - SLIP ** max(1, min(pins[i], 3)) for i in covered)
+    shapes = {t: covered[i] for p, i in zip(parsed, found.member, strict=True)
+              if i in covered for t in templates(p, covered[i])}
+    if not shapes:
+        return None, 1.0
+    if found.count > len(covered):
+        notes.append(f"the column writes its dates {found.count} ways; each order covers the "
+                     f"ways whose own values show it ("
+                     + ", ".join(f"{t} {o}" for t, o in list(shapes.items())[:4])
+                     + "); the other ways' ambiguous cells are listed")
+    elif mixed:
+        notes.append("the column writes its dates " + str(found.count) + " ways, each with "
+                     "its own order: " + ", ".join(f"{t} {o}" for t, o in
+                                                   list(shapes.items())[:4]))
+    return dict(sorted(shapes.items())), probability
+
+
+# ---------------------------------------------------------------- ways of writing
+
+Signature = tuple[str, int, bool, str, str]
+
+
+@lru_cache(maxsize=1 << 17)
+def signature(p: Parsed) -> Signature:
+    """How an OPEN value is written: separator, digits of its last number, whether a time
+    follows, and for each of the first two numbers whether it is zero-padded ("2"),
+    unpadded ("1") or shows neither (10 and above: "?")."""
+    return (p.sep, p.widths[2], p.clock is not None,
+            _padding(p.parts[0], p.widths[0]), _padding(p.parts[1], p.widths[1]))
+
+
+def _padding(value: int, width: int) -> str:
+    return "?" if value >= 10 else str(width)
+
+
+def compatible(a: Signature, b: Signature) -> bool:
+    return a[:3] == b[:3] and all(x == y or "?" in (x, y) for x, y in zip(a[3:], b[3:]))
+
+
+def templates(p: Parsed, order: str) -> list[str]:
+    """The ways of writing ``p`` could follow under ``order``: 'DD/MM/YYYY', 'D.M.YY hh:mm'
+    (a position that shows no padding gives both forms)."""
+    sep, last, timed, first, second = signature(p)
+    letters = {"DMY": "DMY", "MDY": "MDY", "YMD": "YMD"}[order]
+    heads = [[letters[0] * 2, letters[0]] if first == "?" else [letters[0] * int(first)],
+             [letters[1] * 2, letters[1]] if second == "?" else [letters[1] * int(second)]]
+    tail = letters[2] * last + (" hh:mm" if timed else "")
+    return [f"{a}{sep}{b}{sep}{tail}" for a in heads[0] for b in heads[1]]
+
+
+@dataclass
+class Families:
+    """The column's ways of writing its open numeric dates, as families of compatible
+    signatures: the main one, others large enough to be another branch's convention, and
+    strays (a few cells, left out of the evidence)."""
+
+    member: list[int]            # per value: index of its family, -1 = not OPEN, -2 = stray
+    count: int                   # number of families (strays aside)
+    strays: int                  # cells written as strays
+    examples: list[str]          # strays as written
+
+
+def families(parsed: Sequence[Parsed], counts: np.ndarray) -> Families:
+    cells: Counter[Signature] = Counter()
+    for p, n in zip(parsed, counts.tolist(), strict=True):
+        if p.form == OPEN:
+            cells[signature(p)] += n
+    total = sum(cells.values())
+    heads: list[Signature] = []
+    left = dict(cells)
+    while left:
+        reach = {s: sum(n for t, n in left.items() if compatible(s, t)) for s in left}
+        head = max(reach, key=lambda s: (reach[s], left[s], s))
+        if heads and reach[head] <= max(STRAY_CELLS, STRAY_SHARE * total):
+            break   # what is left is a few cells written another way: strays
+        heads.append(head)
+        left = {s: n for s, n in left.items() if not compatible(head, s)}
+    family_of = {sig: next((i for i, h in enumerate(heads) if compatible(h, sig)), -2)
+                 for sig in cells}
+    member = [family_of[signature(p)] if p.form == OPEN else -1 for p in parsed]
+    strays = sum(left.values())
+    examples = [repr(_written(p)) for p, m in zip(parsed, member, strict=True) if m == -2][:3]
+    return Families(member, len(heads), strays, examples)
+
+
+def _written(p: Parsed) -> str:
+    widths = p.widths
+    return p.sep.join(f"{v:0{w}d}" for v, w in zip(p.parts, widths, strict=True))
 
 
 def _outliers(decisive_distinct: Counter[str], leading: str) -> bool:
     """A single stray value against hundreds that agree is a slip, not a second convention."""
     against = sum(n for o, n in decisive_distinct.items() if o != leading)
-    return against <= decisive_distinct[leading] // 500
+    return against <= decisive_distinct[leading] // OUTLIER_RATIO
 
 
 def _softmax(log_odds: Counter[str], orders: Sequence[str]) -> dict[str, float]:

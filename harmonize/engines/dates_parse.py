@@ -61,6 +61,7 @@ class Parsed:
     weekday: int | None = None     # ISO weekday named beside the date, checked against it
     text: str = ""                 # DIGITS: the number as written
     reason: str = ""               # BAD: why
+    sep: str = ""                  # OPEN: the separator between the numbers ("/", ".", "-")
 
     @property
     def has_date(self) -> bool:
@@ -132,7 +133,7 @@ def parse(raw: str) -> Parsed:
         found, clock = _with_dotted_clock(text, found)
     if found.form == BAD or clock is None:
         return found
-    return Parsed(found.form, found.parts, found.widths, clock, found.weekday)
+    return Parsed(found.form, found.parts, found.widths, clock, found.weekday, sep=found.sep)
 
 
 def _with_dotted_clock(text: str, failed: Parsed) -> tuple[Parsed, Clock | None]:
@@ -142,7 +143,7 @@ def _with_dotted_clock(text: str, failed: Parsed) -> tuple[Parsed, Clock | None]
         return failed, None
     found = _read_date_text(m[1])
     clock = _clock_from(m[2], m[3], m[4], None, None) if found.form != BAD else None
-    if not isinstance(clock, Clock) or found.form in (BAD, ):
+    if not isinstance(clock, Clock):
         return failed, None
     return found, clock
 
@@ -265,7 +266,7 @@ def _read_date_text(text: str) -> Parsed:
     text = _DOT_SPACE.sub(".", _TRAILING_T.sub("", text).strip(" ,;@-"))
     m = _NUMERIC.fullmatch(text)
     if m:
-        return _numeric(m[1], m[3], m[4])
+        return _numeric(m[1], m[3], m[4], m[2])
     m = _PAIR.fullmatch(text)
     if m:
         return bad(_pair_reason(m[1], m[2]))
@@ -278,7 +279,7 @@ def _pair_reason(first: str, second: str) -> str:
     return "day and month without a year"
 
 
-def _numeric(a: str, b: str, c: str) -> Parsed:
+def _numeric(a: str, b: str, c: str, sep: str = " ") -> Parsed:
     widths = (len(a), len(b), len(c))
     parts = (int(a), int(b), int(c))
     if parts == (0, 0, 0):
@@ -289,7 +290,7 @@ def _numeric(a: str, b: str, c: str) -> Parsed:
         return Parsed(FIXED, parts, widths)
     if 3 in widths or widths[1] > 2 or (widths[2] == 4 and widths[0] > 2):
         return bad("not a date: components have 3 digits")
-    return Parsed(OPEN, parts, widths)
+    return Parsed(OPEN, parts, widths, sep=sep)
 
 
 def _read_words(text: str) -> Parsed:
@@ -317,7 +318,8 @@ def _read_words(text: str) -> Parsed:
     if not months:
         if len(numbers) == 3:
             found = _numeric(*(digits for _, digits in numbers))
-            return Parsed(found.form, found.parts, found.widths, weekday=weekday) \
+            return Parsed(found.form, found.parts, found.widths, weekday=weekday,
+                          sep=found.sep) \
                 if found.form != BAD else found
         return bad("no month and no numeric date")
     month_position, word = months[0]
@@ -379,8 +381,10 @@ def fields_under(p: Parsed, order: str) -> tuple[int, int, int, int] | None:
     return y, m, d, wy
 
 
+@lru_cache(maxsize=1 << 18)
 def reading(p: Parsed, order: str | None, year_from: int) -> date | None:
-    """The calendar date ``p`` names under ``order`` (needed for OPEN values only)."""
+    """The calendar date ``p`` names under ``order`` (needed for OPEN values only; cached:
+    a column's decision asks for each distinct value's readings several times)."""
     if p.form == FIXED:
         y, m, d = p.parts
         found = calendar_date(full_year(y, p.widths[0], year_from), m, d)
@@ -479,5 +483,5 @@ def compact_parse(text: str) -> Parsed:
     if len(text) == 7 and text.isdigit():
         return Parsed(ORDINAL, (int(text[:4]), int(text[4:])), (4, 3))
     if len(text) == 6 and text.isdigit():
-        return Parsed(OPEN, (int(text[:2]), int(text[2:4]), int(text[4:])), (2, 2, 2))
+        return Parsed(OPEN, (int(text[:2]), int(text[2:4]), int(text[4:])), (2, 2, 2), sep="")
     return bad("not a compact date")

@@ -15,7 +15,7 @@ from harmonize.locales import load_entries
 
 # Languages whose month, weekday and am/pm names are read (CLDR via babel).
 LANGUAGES = ("en", "de", "fr", "es", "it", "nl", "pt", "sv", "da", "nb", "fi", "pl", "cs",
-             "ca", "ro", "hu", "tr")
+             "ca", "ro", "hu", "tr", "ja", "zh", "ko")
 
 _DOTS_AND_SPACES = re.compile(r"[.\s\u00a0\u202f]+")
 
@@ -25,9 +25,15 @@ def fold_word(word: str) -> str:
     return word.casefold().rstrip(".")
 
 
+# Regional locales whose CLDR names differ from their language's ('juill.' in fr_CA,
+# 'Jänner' in de_AT, 'Sept' in en_GB, 'set.' in pt_PT).
+REGIONAL = ("fr_CA", "fr_CH", "fr_BE", "de_AT", "de_CH", "en_GB", "en_AU", "en_IN", "en_CA",
+            "es_MX", "es_US", "pt_PT", "nl_BE", "it_CH", "sv_FI")
+
+
 def _named(getter, key_shift: int = 0) -> dict[str, set[int]]:
     table: dict[str, set[int]] = {}
-    for lang in LANGUAGES:
+    for lang in (*LANGUAGES, *REGIONAL):
         for context in ("format", "stand-alone"):
             for width in ("wide", "abbreviated"):
                 for key, name in getter(width, context, lang).items():
@@ -58,7 +64,7 @@ def fold_period(word: str) -> str:
 def period_table() -> dict[str, str]:
     """am/pm marker (folded) -> 'am' or 'pm', from CLDR day periods in every width."""
     table: dict[str, str] = {"am": "am", "pm": "pm", "a": "am", "p": "pm"}
-    for lang in LANGUAGES:
+    for lang in (*LANGUAGES, *REGIONAL):
         for width in ("abbreviated", "wide", "narrow"):
             names = bd.get_period_names(width, "format", lang)
             for period in ("am", "pm"):
