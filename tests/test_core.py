@@ -176,3 +176,11 @@ def test_why_lines_are_read_back() -> None:
 def test_territory_in_file_name(file: str, territory: str | None) -> None:
     from harmonize.context import territory_in_name
     assert territory_in_name(file) == territory
+
+
+def test_all_zero_code_is_not_a_phone_placeholder() -> None:
+    # common practice, no source: "000-000-0000" fills a phone field; "0000000" may be a code
+    rule = find_missing(column(["0000000", "0012345"], name="Order ref"))
+    assert "0000000" not in rule.tokens
+    assert "000-000-0000" in find_missing(column(["000-000-0000", "x"], name="Ref")).tokens
+    assert "0000000000" in find_missing(column(["0000000000", "x"], name="Phone")).tokens

@@ -26,6 +26,8 @@ _EMAIL_PLACEHOLDER = re.compile(
     r"^[^@\s]+@(?:[\w-]+\.)*(?:example\.(?:com|net|org)|example|invalid|test|localhost)$",
     re.IGNORECASE)
 _ZERO_PHONE = re.compile(r"^\+?[0\s().\-/]{6,}$")
+_PHONE_HEADER = re.compile(r"phone|tel|mobile|handy|fax|cell|portable|telefon|móvil|movil",
+                           re.IGNORECASE)
 _SENTINEL = re.compile(r"^[-+]?9{2,}(?:[.,]0+)?$")
 _PLAIN_NUMBER = re.compile(r"^[-+]?\d+(?:[.,]\d+)?$")
 MIN_NUMERIC_SHARE = 0.9   # a column must be this numeric before a sentinel is believed
@@ -89,6 +91,9 @@ def find_missing(column: ColumnEvidence, options: Options | None = None) -> Miss
     for token in emails[emails.str.match(_EMAIL_PLACEHOLDER)].unique():
         reasons[token] = "placeholder e-mail at a reserved example domain"
     zeros = folded[folded.str.count("0") >= 6]
+    if not _PHONE_HEADER.search(column.name):
+        # bare "0000000" may be a real code; only a phone's punctuation marks a placeholder
+        zeros = zeros[zeros.str.contains(r"[\s()+\-./]")]
     for token in zeros[zeros.str.match(_ZERO_PHONE)].unique():
         reasons[token] = "all-zero phone number"
     rest = ~(folded.isin(reasons) | folded.eq("")).to_numpy()
