@@ -17,7 +17,7 @@ import re
 import unicodedata
 from collections.abc import Sequence
 from dataclasses import dataclass
-from functools import cache
+from functools import cache, lru_cache
 
 import numpy as np
 import pandas as pd
@@ -97,7 +97,7 @@ def _one_token(unit: str) -> bool:
     return not any(c.isdigit() for c in unit) or bool(read_token(unit.strip()).units)
 
 
-@cache
+@lru_cache(maxsize=1 << 16)  # bounded: called per distinct cell text
 def compound(text: str) -> tuple[Piece, ...]:
     """Pieces of a compound quantity, or () when the text is not one."""
     matches = list(PIECE.finditer(text))
