@@ -164,7 +164,7 @@ def main() -> None:
     E.164 phones and one spelling per value, with every undecided cell listed."""
 
 
-@main.command()
+@main.command(short_help="Show each column's kind, decision and confidence; write nothing.")
 @input_options
 @click.option("--json", "as_json", is_flag=True, help="Print the report as JSON.")
 @click.option("--html", "html_file", type=click.Path(path_type=Path),
@@ -188,7 +188,7 @@ def inspect(inputs: tuple[Path, ...], region: str | None, date_order: str | None
     sys.exit(EXIT_PARTIAL if result.errors else 0)
 
 
-@main.command()
+@main.command(short_help="Save every column's decision as an editable plan file.")
 @input_options
 @click.option("--save", "plan_file", type=click.Path(path_type=Path),
               default=Path("harmonize-plan.toml"), show_default=True,
@@ -205,7 +205,7 @@ def plan(inputs: tuple[Path, ...], region: str | None, date_order: str | None,
     sys.exit(EXIT_PARTIAL if result.errors else 0)
 
 
-@main.command()
+@main.command(short_help="Write harmonised files and the reports into --out.")
 @input_options
 @click.option("--out", "out_dir", type=click.Path(path_type=Path), required=True,
               help="Folder for the harmonised files and the reports.")
@@ -246,7 +246,7 @@ def apply(inputs: tuple[Path, ...], region: str | None, date_order: str | None,
     sys.exit(EXIT_PARTIAL if result.errors else 0)
 
 
-@main.command()
+@main.command(short_help="List undecided cells and what would decide them.")
 @input_options
 @click.option("--plan", "plan_file", type=click.Path(path_type=Path),
               help="Judge the cells under this saved plan.")
