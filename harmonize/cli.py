@@ -52,6 +52,14 @@ def input_options(func: Any) -> Any:
                      "e.g. de_DE."),
         click.option("--missing-word", "missing_words", multiple=True, metavar="WORD",
                      help="Another word meaning 'no value' (repeatable)."),
+        click.option("--unit", "units", multiple=True, metavar="DIMENSION=UNIT",
+                     help="Output unit for a dimension instead of SI, e.g. volume=L, "
+                     "temperature=degF (repeatable)."),
+        click.option("--year-window", type=click.IntRange(1, 100), default=80,
+                     show_default=True, help="Two-digit years fall in the 100 years from "
+                     "N-1 years ago to 100-N years ahead."),
+        click.option("--country-codes", is_flag=True,
+                     help="Write country columns as ISO 3166-1 alpha-2 codes."),
         click.option("--undecided-as", type=click.Choice(["empty", "raw", "best"]),
                      default="empty", show_default=True,
                      help="What an undecided cell holds in the output."),
@@ -69,14 +77,37 @@ def input_options(func: Any) -> Any:
     return func
 
 
+def _unit_targets(pairs: tuple[str, ...]) -> dict[str, str]:
+    targets = {}
+    for pair in pairs:
+        dimension, sep, unit = pair.partition("=")
+        if not sep or not dimension.strip() or not unit.strip():
+            raise click.BadParameter(f"expected DIMENSION=UNIT, got {pair!r}",
+                                     param_hint="--unit")
+        targets[dimension.strip().lower()] = unit.strip()
+    return targets
+
+
 def _options(region: str | None, date_order: str | None, locale: str | None,
-             missing_words: tuple[str, ...], undecided_as: str) -> Options:
+             missing_words: tuple[str, ...], units: tuple[str, ...], year_window: int,
+             country_codes: bool, undecided_as: str) -> Options:
     try:
         return Options(default_region=region.upper() if region else None,
                        date_order=date_order, locale=locale, unresolved_fill=undecided_as,
-                       missing_words=missing_words)
+                       missing_words=missing_words, unit_targets=_unit_targets(units),
+                       year_window=year_window,
+                       engine={"text": {"country_codes": True}} if country_codes else {})
     except ValueError as exc:
         raise click.BadParameter(str(exc)) from None
+
+
+RUN_KEYS = ("jobs", "chunk_rows", "use_dask")  # the shared options that steer the run
+
+
+def _split_common(common: dict[str, Any]) -> tuple[Options, dict[str, Any]]:
+    """The shared options as (Options for the engines, keywords for the run)."""
+    steering = {key: common.pop(key) for key in RUN_KEYS}
+    return _options(**common), steering
 
 
 def _jobs(jobs: int) -> int:
@@ -169,14 +200,11 @@ def main() -> None:
 @click.option("--json", "as_json", is_flag=True, help="Print the report as JSON.")
 @click.option("--html", "html_file", type=click.Path(path_type=Path),
               help="Also write the HTML report to this file.")
-def inspect(inputs: tuple[Path, ...], region: str | None, date_order: str | None,
-            locale: str | None, missing_words: tuple[str, ...], undecided_as: str,
-            jobs: int, chunk_rows: int | None, use_dask: bool, as_json: bool,
-            html_file: Path | None) -> None:
+def inspect(inputs: tuple[Path, ...], as_json: bool, html_file: Path | None,
+            **common: Any) -> None:
     """Show what each column holds and what would be done, without writing data."""
-    options = _options(region, date_order, locale, missing_words, undecided_as)
-    result = _execute(inputs, None, options, jobs=jobs, quiet=as_json,
-                      chunk_rows=chunk_rows, use_dask=use_dask)
+    options, steering = _split_common(common)
+    result = _execute(inputs, None, options, quiet=as_json, **steering)
     if as_json:
         click.echo(json.dumps(result.report, ensure_ascii=False, indent=1))
     else:
@@ -193,13 +221,10 @@ def inspect(inputs: tuple[Path, ...], region: str | None, date_order: str | None
 @click.option("--save", "plan_file", type=click.Path(path_type=Path),
               default=Path("harmonize-plan.toml"), show_default=True,
               help="Where to write the plan.")
-def plan(inputs: tuple[Path, ...], region: str | None, date_order: str | None,
-         locale: str | None, missing_words: tuple[str, ...], undecided_as: str, jobs: int,
-         chunk_rows: int | None, use_dask: bool, plan_file: Path) -> None:
+def plan(inputs: tuple[Path, ...], plan_file: Path, **common: Any) -> None:
     """Decide every column and save the decisions as an editable plan file."""
-    options = _options(region, date_order, locale, missing_words, undecided_as)
-    result = _execute(inputs, None, options, jobs=jobs, chunk_rows=chunk_rows,
-                      use_dask=use_dask)
+    options, steering = _split_common(common)
+    result = _execute(inputs, None, options, **steering)
     plans.save(result.plan, plan_file)
     click.echo(f"plan for {len(result.plan.tables)} table(s) written to {plan_file}")
     sys.exit(EXIT_PARTIAL if result.errors else 0)
@@ -217,16 +242,13 @@ def plan(inputs: tuple[Path, ...], region: str | None, date_order: str | None,
               help="Exit with code 4 when the data no longer fits the plan.")
 @click.option("--quiet", "-q", is_flag=True, help="Print nothing but errors.")
 @click.option("--json", "as_json", is_flag=True, help="Print the summary as JSON.")
-def apply(inputs: tuple[Path, ...], region: str | None, date_order: str | None,
-          locale: str | None, missing_words: tuple[str, ...], undecided_as: str, jobs: int,
-          chunk_rows: int | None, use_dask: bool, out_dir: Path, fmt: str | None,
-          plan_file: Path | None,
-          fail_on_drift: bool, quiet: bool, as_json: bool) -> None:
+def apply(inputs: tuple[Path, ...], out_dir: Path, fmt: str | None, plan_file: Path | None,
+          fail_on_drift: bool, quiet: bool, as_json: bool, **common: Any) -> None:
     """Harmonise the inputs into --out, with harmonize-report.json/.html and
     unresolved.csv beside the data."""
-    options = _options(region, date_order, locale, missing_words, undecided_as)
-    result = _execute(inputs, out_dir, options, plan_file=plan_file, fmt=fmt, jobs=jobs,
-                      quiet=quiet or as_json, chunk_rows=chunk_rows, use_dask=use_dask)
+    options, steering = _split_common(common)
+    result = _execute(inputs, out_dir, options, plan_file=plan_file, fmt=fmt,
+                      quiet=quiet or as_json, **steering)
     summary = {**result.report["summary"], "errors": len(result.errors),
                "drift": result.drift, "out": str(out_dir)}
     if as_json:
@@ -251,15 +273,12 @@ def apply(inputs: tuple[Path, ...], region: str | None, date_order: str | None,
 @click.option("--plan", "plan_file", type=click.Path(path_type=Path),
               help="Judge the cells under this saved plan.")
 @click.option("--csv", "as_csv", is_flag=True, help="Print every undecided cell as CSV.")
-def ambiguous(inputs: tuple[Path, ...], region: str | None, date_order: str | None,
-              locale: str | None, missing_words: tuple[str, ...], undecided_as: str,
-              jobs: int, chunk_rows: int | None, use_dask: bool, plan_file: Path | None,
-              as_csv: bool) -> None:
+def ambiguous(inputs: tuple[Path, ...], plan_file: Path | None, as_csv: bool,
+              **common: Any) -> None:
     """List the cells that remain undecided, per file and column, and what would
     decide them."""
-    options = _options(region, date_order, locale, missing_words, undecided_as)
-    result = _execute(inputs, None, options, plan_file=plan_file, jobs=jobs, quiet=as_csv,
-                      chunk_rows=chunk_rows, use_dask=use_dask)
+    options, steering = _split_common(common)
+    result = _execute(inputs, None, options, plan_file=plan_file, quiet=as_csv, **steering)
     cells = result.report["unresolved"]
     if as_csv:
         from harmonize.report import unresolved_csv

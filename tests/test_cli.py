@@ -221,3 +221,22 @@ def test_edited_date_order_is_followed(tmp_path: Path) -> None:
     assert frame["Booked"].tolist()[1] == "2024-03-04"
     assert {u["row"] for u in report["unresolved"]} == {2, 4}
     assert any("contradict" in d or "suggests" in d for d in report["files"][0]["drift"])
+
+
+def test_unit_year_and_country_options(tmp_path: Path) -> None:
+    data = tmp_path / "depot.csv"
+    data.write_text("Tank,Shipped,Country\n2 gal,01.02.69,Deutschland\n3 gal,13.02.69,France\n"
+                    "1 gal,14.02.69,Deutschland\n", encoding="utf-8")
+    out = tmp_path / "out"
+    code, _, _ = invoke("apply", str(data), "--out", str(out), "-q", "--unit", "volume=L",
+                        "--year-window", "100", "--country-codes", "--region", "US")
+    assert code == 0
+    frame = pd.read_csv(out / "depot.csv", dtype=str, keep_default_na=False)
+    # NIST HB 44 App. C: 1 US gallon = 231 in³ = 3.785411784 L exactly (checkvalues.md U11)
+    assert frame.iloc[:, 0].tolist() == ["7.570823568", "11.356235352", "3.785411784"]
+    # a window of 100 years back from today reads '69 as 1969 (our stated rule)
+    assert frame["Shipped"].tolist()[0] == "1969-02-01"
+    # ISO 3166-1 alpha-2 codes (via pycountry / CLDR names)
+    assert frame["Country"].tolist() == ["DE", "FR", "DE"]
+    code, _, err = invoke("apply", str(data), "--out", str(out), "--unit", "litres")
+    assert code == 2 and "DIMENSION=UNIT" in err
