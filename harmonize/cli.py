@@ -126,10 +126,10 @@ def _execute(inputs: tuple[Path, ...], out: Path | None, options: Options, *,
         except plans.PlanError as exc:
             _fail(str(exc))
     try:
-        with _progress(quiet) as on_file:
+        with _progress(quiet) as (on_file, on_rows):
             result = run(inputs, out, plan=plan, options=options, fmt=fmt, jobs=_jobs(jobs),
                          on_file=on_file, plan_source=plan_file, chunk_rows=chunk_rows,
-                         dask=use_dask)
+                         dask=use_dask, on_rows=on_rows)
     except (SourceError, RunError) as exc:
         _fail(str(exc))
     for error in result.errors:
@@ -148,20 +148,29 @@ def _execute(inputs: tuple[Path, ...], out: Path | None, options: Options, *,
 
 
 class _progress:
-    """A progress bar on stderr over files, shown only on a terminal."""
+    """Progress bars on stderr, shown only on a terminal: files done, and rows done in a
+    streamed file."""
 
     def __init__(self, quiet: bool) -> None:
         self.show = not quiet and sys.stderr.isatty()
 
-    def __enter__(self) -> Any:
+    def __enter__(self) -> tuple[Any, Any]:
         if not self.show:
-            return None
+            return None, None
         from rich.progress import Progress
         self.bar = Progress(console=_console(err=True), transient=True)
         self.bar.start()
-        self.task = self.bar.add_task("files", total=None)
-        return lambda outcome: self.bar.update(self.task, advance=1,
-                                               description=outcome.input)
+        files = self.bar.add_task("files", total=None)
+        rows = self.bar.add_task("rows", total=None, visible=False)
+
+        def on_file(outcome: Any) -> None:
+            self.bar.update(files, advance=1, description=outcome.input)
+            self.bar.update(rows, visible=False)
+
+        def on_rows(name: str, done: int) -> None:
+            self.bar.update(rows, completed=done, visible=True,
+                            description=f"{name}: {done:,} rows")
+        return on_file, on_rows
 
     def __exit__(self, *exc: object) -> None:
         if self.show:

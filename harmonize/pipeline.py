@@ -152,7 +152,8 @@ def _streams(path: Path, fmt: str | None, chunk_rows: int | None, dask: bool) ->
 
 def _process_stream(path: Path, rel: Path, out_dir: Path | None, options: Options,
                     plan: Plan | None, inputs: set[Path], chunk_rows: int | None,
-                    outcome: FileOutcome, dask: bool = False) -> None:
+                    outcome: FileOutcome, dask: bool = False,
+                    on_rows: Callable[[str, int], None] | None = None) -> None:
     from harmonize.stream import CHUNK_ROWS, harmonize_stream
     rel_out = rel.with_suffix(rel.suffix.lower() if rel.suffix.lower() != ".tsv" else ".csv")
     dest = None
@@ -172,8 +173,9 @@ def _process_stream(path: Path, rel: Path, out_dir: Path | None, options: Option
                                    sep=dialect.delimiter or "\x1f", encoding=dialect.encoding)
         notes = {"dask": True, "partitions": found["partitions"]}
     else:
+        on_chunk = (lambda done: on_rows(str(rel), done)) if on_rows else None
         result = harmonize_stream(path, str(rel), dest, options, plan,
-                                  chunk_rows or CHUNK_ROWS)
+                                  chunk_rows or CHUNK_ROWS, on_chunk=on_chunk)
         found = {"plan": result.plan, "sample": result.sample, "rows": result.rows,
                  "counts": result.counts, "missing": result.missing,
                  "unresolved": result.unresolved}
@@ -197,12 +199,13 @@ def _process_stream(path: Path, rel: Path, out_dir: Path | None, options: Option
 
 def process_file(path: Path, rel: Path, out_dir: Path | None, options: Options,
                  plan: Plan | None, fmt: str | None, inputs: set[Path],
-                 chunk_rows: int | None = None, dask: bool = False) -> FileOutcome:
+                 chunk_rows: int | None = None, dask: bool = False,
+                 on_rows: Callable[[str, int], None] | None = None) -> FileOutcome:
     outcome = FileOutcome(input=str(rel))
     try:
         if _streams(path, fmt, chunk_rows, dask):
             _process_stream(path, rel, out_dir, options, plan, inputs, chunk_rows, outcome,
-                            dask)
+                            dask, on_rows)
             return outcome
         tables = read_tables(path)
         pending = []
@@ -243,12 +246,14 @@ def run(paths: Sequence[str | Path], out_dir: str | Path | None = None, *,
         plan: Plan | None = None, options: Options | None = None, fmt: str | None = None,
         jobs: int = 1, on_file: Callable[[FileOutcome], None] | None = None,
         plan_source: str | Path | None = None, chunk_rows: int | None = None,
-        dask: bool = False) -> RunResult:
+        dask: bool = False, on_rows: Callable[[str, int], None] | None = None) -> RunResult:
     """Harmonise every input; write outputs and reports to ``out_dir`` when given.
 
     ``chunk_rows`` streams delimited files that many rows at a time (bounded memory);
     files above ``stream.STREAM_ABOVE_BYTES`` stream anyway. ``dask`` sends delimited
-    files through Dask (``harmonize.distributed``) on whatever scheduler is active."""
+    files through Dask (``harmonize.distributed``) on whatever scheduler is active.
+    ``on_file`` hears of each finished file, ``on_rows`` of rows done in a streamed file
+    (in this process only)."""
     options = options or Options()
     if fmt is not None and fmt not in OUTPUT_FORMATS:
         raise RunError(f"unknown output format {fmt!r}; use one of {', '.join(OUTPUT_FORMATS)}")
@@ -268,7 +273,7 @@ def run(paths: Sequence[str | Path], out_dir: str | Path | None = None, *,
                     on_file(result)
     else:
         for arg in args:
-            result = process_file(*arg)
+            result = process_file(*arg, on_rows=on_rows)
             outcomes.append(result)
             if on_file:
                 on_file(result)
