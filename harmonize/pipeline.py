@@ -15,6 +15,7 @@ from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any
 
+import numpy as np
 import pandas as pd
 
 from harmonize import report as rpt
@@ -318,15 +319,56 @@ def _write_reports(out: Path, report: dict[str, Any]) -> None:
     atomic_write_text(out / rpt.HTML_NAME, render_html(report))
 
 
+def frame_as_text(frame: pd.DataFrame) -> tuple[pd.DataFrame, dict[str, dict[str, str]]]:
+    """A DataFrame's cells as text, as a reader would give them, and the typed-cell tags:
+    typed columns (numbers, datetimes, booleans) are typed evidence, as in a workbook."""
+    texts, typed = {}, {}
+    for position, label in enumerate(frame.columns):
+        name = str(label) if str(label).strip() else f"column_{position + 1}"
+        texts[name], tags = _column_text(frame.iloc[:, position])
+        if tags:
+            typed[name] = tags
+    return pd.DataFrame(texts, dtype=object, index=range(len(frame))), typed
+
+
+def _column_text(column: pd.Series) -> tuple[np.ndarray, dict[str, str]]:
+    missing = column.isna().to_numpy()
+    tag = None
+    if pd.api.types.is_bool_dtype(column):
+        text, tag = column.map({True: "TRUE", False: "FALSE"}), "boolean"
+    elif pd.api.types.is_datetime64_any_dtype(column):
+        stamps = column.dt.tz_localize(None) if column.dt.tz is not None else column
+        midnight = bool((stamps.dropna() == stamps.dropna().dt.normalize()).all())
+        pattern = "%Y-%m-%d" if midnight and column.dt.tz is None else "%Y-%m-%dT%H:%M:%S"
+        text, tag = column.dt.strftime(pattern), ("date" if pattern == "%Y-%m-%d" else
+                                                  "datetime")
+        if column.dt.tz is not None:
+            text = column.map(lambda t: t.isoformat() if pd.notna(t) else "")
+    elif pd.api.types.is_integer_dtype(column):
+        text, tag = column.astype("Int64").astype(str), "number"
+    elif pd.api.types.is_float_dtype(column):
+        # shortest round-trip digits, never scientific notation: 1e-05 -> 0.00001
+        text = column.map(lambda v: np.format_float_positional(v, unique=True, trim="-")
+                          if pd.notna(v) else "")
+        tag = "number"
+    else:
+        text = column.astype(object).where(~missing, "").map(str)
+    values = text.astype(object).to_numpy().copy()
+    values[missing] = ""
+    tags = dict.fromkeys(pd.unique(values[~missing]).tolist(), tag) if tag else {}
+    return values, tags
+
+
 def harmonize_frame(frame: pd.DataFrame, *, options: Options | None = None,
                     plan: TablePlan | None = None, name: str = "<frame>"
                     ) -> tuple[pd.DataFrame, dict[str, Any], TablePlan]:
-    """Harmonise a DataFrame of text: (output frame, report entry with its unresolved
-    cells under "unresolved", the plan used)."""
+    """Harmonise a DataFrame: (output frame of text, report entry with its unresolved
+    cells under "unresolved", the plan used). Text columns are read like a CSV's cells;
+    typed columns (numbers, datetimes, booleans) count as typed evidence, as a
+    workbook's typed cells do. Rows are numbered as a spreadsheet would (header = 1)."""
     options = options or Options()
-    text = frame.astype(object).where(frame.notna(), "").astype(str).astype(object)
-    text.columns = [str(c) for c in frame.columns]
-    evidence = TableEvidence.from_frame(text, file=name)
+    text, typed = frame_as_text(frame)
+    evidence = TableEvidence.from_frame(text, file=name, typed=typed)
     table_plan = plan or decide_table(evidence, options)
     result = apply_table(evidence, table_plan, options)
     entry, unresolved = rpt.table_entry(result, input_name=name, sheet=None, output=None)

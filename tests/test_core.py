@@ -184,3 +184,24 @@ def test_all_zero_code_is_not_a_phone_placeholder() -> None:
     assert "0000000" not in rule.tokens
     assert "000-000-0000" in find_missing(column(["000-000-0000", "x"], name="Ref")).tokens
     assert "0000000000" in find_missing(column(["0000000000", "x"], name="Phone")).tokens
+
+
+def test_frame_api_reads_typed_columns() -> None:
+    # Python's datetime and float repr as references: typed pandas columns are typed cells
+    frame = pd.DataFrame({
+        "when": pd.to_datetime(["2024-01-02", "2024-03-04", None]),
+        "stamp": pd.to_datetime(["2024-01-02 10:00", "2024-01-03 11:30", None]).tz_localize(
+            "UTC"),
+        "amount": [1.5, 0.00001, np.nan],
+        "paid": [True, False, True],
+        "code": ["007", None, "012"],
+    })
+    out, entry, _ = harmonize_frame(frame)
+    assert out["when"].tolist() == ["2024-01-02", "2024-03-04", ""]
+    assert out["stamp"].tolist() == ["2024-01-02T10:00:00+00:00", "2024-01-03T11:30:00+00:00", ""]
+    assert out["amount"].tolist() == ["1.5", "0.00001", ""]
+    assert out["paid"].tolist() == ["true", "false", "true"]
+    assert out["code"].tolist() == ["007", "", "012"]
+    kinds = {c["name"]: c["kind"] for c in entry["columns"]}
+    assert kinds == {"when": "date", "stamp": "datetime", "amount": "number",
+                     "paid": "boolean", "code": "identifier"}
