@@ -360,17 +360,29 @@ class TestDecisions:
     def test_format_order(self, number_format: str, order: str | None) -> None:
         assert format_order(number_format) == order
 
-    def test_row_order_and_territory_make_a_likely_order_only(self) -> None:
-        # 1-10 March written day-first in a German branch: one-day steps read DMY, one-month
-        # steps read MDY. A ledger of the same day each month looks the same the other way
-        # round, so this is a prior for the "best" reading, not a decision
+    def test_territory_decides_when_no_value_does(self) -> None:
+        # 1-10 March written day-first in a German branch: no value decides, none
+        # contradicts DMY, and CLDR's de short date pattern (dd.MM.yy) is day-first
         days = [date(2024, 3, d) for d in range(1, 11) for _ in range(2)]
         frame = pd.DataFrame({"d": [d.strftime("%d/%m/%Y") for d in days],
                               "country": ["DE"] * 20})
         decision, evidence = decide(frame, "d")
+        assert decision.convention["order"] == "DMY"
+        assert any("steps" in e for e in decision.evidence)
+        assert any("named country" in e for e in decision.evidence)
+        assert decision.confidence < 0.98  # a country's habit, not proof
+        result = ENGINE.convert(evidence.values.tolist(), decision.convention)
+        i = evidence.values.tolist().index("02/03/2024")
+        assert result.text[i] == "2024-03-02"
+
+    def test_row_order_alone_makes_a_likely_order_only(self) -> None:
+        # no country anywhere: one-day steps read DMY, but a ledger of the same day each
+        # month looks the same the other way round, so row order only sets the best reading
+        days = [date(2024, 3, d) for d in range(1, 11) for _ in range(2)]
+        frame = pd.DataFrame({"d": [d.strftime("%d/%m/%Y") for d in days]})
+        decision, evidence = decide(frame, "d")
         assert decision.convention["order"] is None
         assert decision.convention["likely_order"] == "DMY"
-        assert any("steps" in e for e in decision.evidence)
         result = ENGINE.convert(evidence.values.tolist(), decision.convention)
         i = evidence.values.tolist().index("03/03/2024")
         assert result.outcome[i] == Outcome.CONVERTED  # readings coincide
@@ -461,18 +473,31 @@ class TestStraysAndBranches:
         assert out["03/02/2024"] == "2024-03-02" and out["25/03/2024"] == ""
 
     def test_each_branch_needs_its_own_evidence(self) -> None:
-        # two branches write dd/MM/yyyy alike; only the first shows its order. CLDR gives
-        # US M/d/yy, so a territory is a prior, not evidence: the second's cells are listed
+        # GB and US write dd/MM/yyyy alike, and the US rows show it (14/03, 15/03): a branch
+        # writing against its country's CLDR pattern means countries decide nothing here,
+        # so the Australian rows, which show no order of their own, are listed
         frame = pd.DataFrame({
             "d": ["13/03/2024", "02/03/2024", "14/03/2024", "03/04/2024", "04/03/2024",
-                  "01/03/2024", "02/03/2024", "03/04/2024", "05/03/2024", "06/03/2024",
-                  "02/04/2024", "01/02/2024"],
-            "Country": ["GB"] * 6 + ["US"] * 6})
+                  "01/03/2024", "02/03/2024", "14/03/2024", "15/03/2024", "06/03/2024",
+                  "02/04/2024", "01/02/2024", "03/02/2024", "04/02/2024", "05/02/2024"],
+            "Country": ["GB"] * 5 + ["US"] * 5 + ["AU"] * 5})
         decision, _ = decide(frame, "d")
         assert decision.groups is not None and decision.groups.by == "Country"
         assert decision.groups.conventions["GB"]["order"] == "DMY"
-        assert decision.groups.conventions["US"]["order"] is None
-        assert decision.groups.conventions["US"]["likely_order"] == "MDY"
+        assert decision.groups.conventions["US"]["order"] == "DMY"
+        assert decision.groups.conventions["AU"]["order"] is None
+        assert decision.groups.conventions["AU"]["likely_order"] == "DMY"
+
+    def test_branches_without_evidence_follow_their_country(self) -> None:
+        # en_GB dd/MM/y and en_US M/d/yy (CLDR short patterns): GB rows show DMY, the US
+        # rows show nothing either way and no branch writes against its country
+        frame = pd.DataFrame({
+            "d": ["13/03/2024", "02/03/2024", "14/03/2024", "03/04/2024", "04/03/2024",
+                  "01/03/2024", "02/03/2024", "03/04/2024", "05/03/2024", "06/03/2024"],
+            "Country": ["GB"] * 5 + ["US"] * 5})
+        decision, _ = decide(frame, "d")
+        assert decision.groups.conventions["GB"]["order"] == "DMY"
+        assert decision.groups.conventions["US"]["order"] == "MDY"
 
     def test_two_ways_of_writing_each_with_its_order(self) -> None:
         # merged without a country column: de_DE dd.MM.yy beside en_US M/d/yy (CLDR short)

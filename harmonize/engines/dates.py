@@ -56,7 +56,8 @@ from harmonize.engines.dates_decide import (
     format_hints,
     templates,
 )
-from harmonize.engines.dates_numbers import numbers_mode
+from harmonize.engines.dates_fast import IsoValues, read_iso
+from harmonize.engines.dates_numbers import NumbersMode, numbers_mode
 from harmonize.engines.dates_parse import (
     BAD,
     DIGITS,
@@ -108,9 +109,7 @@ class DateEngine:
     def propose(self, column: ColumnEvidence, context: Context) -> Decision | None:
         if column.total == 0 or "version" in column.name.casefold():
             return None
-        raw = [parse(v) for v in column.values.tolist()]
-        mode = numbers_mode(column, raw)
-        col = _Column([_effective(p, mode) for p in raw], column.counts, mode.mode)
+        col, mode = _read_column(column)
         year_from = date.today().year - (context.options.year_window - 1)
         orders = _candidate_orders(col, context, year_from)
         read = [_is_read(p, orders, year_from) or (p.form == DIGITS and mode.reads(p.text))
@@ -227,12 +226,45 @@ class DateEngine:
     def convert(self, values: Sequence[str], convention: Mapping[str, Any]) -> Converted:
         result = Converted.empty(len(values))
         settings = _Settings.of(convention)
-        for i, raw in enumerate(values):
-            _convert_one(result, i, raw, settings)
+        fast = _fast_reads(values, settings)
+        result.text = fast.text.tolist()
+        result.outcome[fast.read] = Outcome.CONVERTED
+        for i in np.flatnonzero(~fast.read).tolist():
+            _convert_one(result, i, values[i], settings)
         return result
 
 
 # ---------------------------------------------------------------- propose helpers
+
+def _read_column(column: ColumnEvidence) -> tuple[_Column, NumbersMode]:
+    """Every distinct value parsed, with the column's reading of bare numbers.
+
+    ISO dates and date-times whose reading is certain (``dates_fast``) all weigh alike in
+    the decision (a fixed field order, a real day, a time of day or not), so unless the
+    column also holds open-order values (whose decision follows rows one by one) they
+    stand as one value per kind, at its first place, carrying all their cells."""
+    fast = read_iso(column.values.tolist(), with_text=False)
+    if fast.read.any():
+        keep = ~fast.read
+        counts = column.counts.copy()
+        for timed in (True, False):
+            members = np.flatnonzero(fast.read & (fast.timed == timed))
+            if len(members):
+                keep[members[0]] = True
+                counts[members[0]] = column.counts[members].sum()
+        kept = np.flatnonzero(keep)
+        reduced = ColumnEvidence(column.name, column.index, column.values[kept], counts[kept])
+        col, mode = _parsed_column(reduced)
+        if not any(p.form == OPEN for p in col.parsed):
+            return col, mode
+    return _parsed_column(column)
+
+
+def _parsed_column(column: ColumnEvidence) -> tuple[_Column, NumbersMode]:
+    raw = [parse(v) for v in column.values.tolist()]
+    mode = numbers_mode(column, raw)
+    return _Column([_effective(p, mode) for p in raw], column.counts, mode.mode), mode
+
 
 def _effective(p: Parsed, numbers: str | None) -> Parsed:
     if p.form == DIGITS and numbers == "compact":
@@ -311,11 +343,17 @@ def _territory_hint(column: ColumnEvidence, context: Context, orders: list[str],
             names = ", ".join(sorted(territories)[:4])
             hints.add(order, LR_TERRITORY, f"the {name!r} column names {names}, whose CLDR "
                                            f"short date pattern is {order}")
+            hints.territory = order
         return
     region = context.options.default_region
+    source = f"the default region {region}"
+    if not region and context.file_territory:
+        region = context.file_territory
+        source = f"{region}, the country the file name {context.file!r} points to,"
     if region and territory_order(region) in orders:
         order = territory_order(region)
-        hints.add(order, LR_TERRITORY, f"the default region {region} writes {order} (CLDR)")
+        hints.add(order, LR_TERRITORY, f"{source} writes {order} (CLDR short date pattern)")
+        hints.territory = order
 
 
 def _row_territories(column: ColumnEvidence, context: Context
@@ -356,6 +394,8 @@ def _group_hints(territory: str | None, matches: tuple[int, int], orders: list[s
         hints.add(order, ratio, f"territory {territory} writes {order} (CLDR short date "
                                 f"pattern); {agree} of {agree + disagree} groups decided by "
                                 f"their values follow their territory's pattern")
+        if not disagree:  # no branch is seen writing against its country's pattern
+            hints.territory = order
     return hints
 
 
@@ -402,6 +442,19 @@ def _zone_note(col: _Column, convention: Mapping[str, Any], details: dict[str, A
 
 
 # ---------------------------------------------------------------- convert helpers
+
+def _fast_reads(values: Sequence[str], s: _Settings) -> IsoValues:
+    """The values ``dates_fast`` converts exactly as ``_convert_one`` would: not in a
+    column of times (a date there is listed) and not a sentinel date (missing)."""
+    if s.kind == "time":
+        return IsoValues.none(len(values))
+    found = read_iso(list(values))
+    sentinel = np.isin(found.day, list(s.sentinels)) & found.read
+    if sentinel.any():
+        found.read[sentinel] = False
+        found.text[sentinel] = ""
+    return found
+
 
 @dataclass(frozen=True)
 class _Settings:

@@ -12,8 +12,11 @@ Every candidate order starts with a prior; each kind of evidence multiplies its 
 
 The posterior of the leading order is the probability reported. An order is applied
 to the ambiguous cells only when that probability reaches ``DECIDE``, no value
-contradicts it, and values (or a stated order, locale or number format) decide it: a
-territory and row order are priors only. Otherwise the ambiguous cells are listed.
+contradicts it, and values (or a stated order, locale or number format) decide it. Row
+order is a prior only. A named country (a country column, the file's name, the default
+region) decides through its CLDR short date pattern only when no value decides the order
+and none contradicts it; the probability reported is then ``TERRITORY_DECIDES``.
+Otherwise the ambiguous cells are listed.
 
 A row pasted from another branch is written that branch's way: another separator, year
 width, zero padding or a time where the others have none. Values written unlike the
@@ -39,7 +42,8 @@ DECIDE = 0.98          # posterior needed to convert cells the order alone decid
 SLIP = 0.02            # chance that one distinct value is a slip against the column's order
 LR_FORMAT = 100.0      # typed cells' number format states the author's order
 LR_SEQUENCE = 8.0      # daily steps under one reading, monthly under the other
-LR_TERRITORY = 4.0     # CLDR short pattern of the rows' territory: a prior only
+LR_TERRITORY = 4.0     # CLDR short pattern of the rows' territory: a prior ...
+TERRITORY_DECIDES = 0.95  # ... that decides when no value does and none contradicts it
 LR_LOCALE = 50.0       # a locale stated by the user
 LR_STATED = 400.0      # an order stated by the user in the run options
 SMALL_STEP = 7         # days between consecutive distinct dates that count as "in sequence"
@@ -62,6 +66,7 @@ class Hints:
     log_odds: Counter[str] = field(default_factory=Counter)
     notes: list[str] = field(default_factory=list)
     strong: bool = False
+    territory: str | None = None  # the order a named country (column, file, region) writes
 
     def add(self, order: str, ratio: float, note: str) -> None:
         self.log_odds[order] += math.log(ratio)
@@ -139,12 +144,19 @@ def decide(parsed: Sequence[Parsed], counts: np.ndarray, orders: Sequence[str],
         order = leading
     if not ambiguous and not decisive:
         order = None  # nothing depends on the order
+    by_territory = (order is None and not mixed and ambiguous and not any(decisive.values())
+                    and hints.territory in orders and not contradicted[hints.territory])
+    if by_territory:
+        # no value decides, none contradicts: the branch writes as its country does
+        order = leading = hints.territory
+        notes.append(f"no value decides the order and none contradicts {order}, the order "
+                     f"the named country writes: {order} is applied")
     shapes, probability = _shape_orders(parsed, found, pinned_families, order, mixed,
                                         hints.strong, notes)
     if shapes and mixed:
         leading, probability = next(iter(shapes.values())), probability
     else:
-        probability = posterior[leading]
+        probability = TERRITORY_DECIDES if by_territory else posterior[leading]
         if order and contradicted[leading]:
             probability *= OUTLIER_DOUBT   # a slip, or a second convention barely seen
     return Verdict(order, leading, probability, dict(decisive), dict(contradicted),

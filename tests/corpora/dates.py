@@ -20,8 +20,10 @@ engine:
   a typed cell, a day above 12, readings that coincide), or it is a sentinel, or its
   group (the branch, where the file says which row is whose: one branch's file, or a
   country column) holds a value that only the group's true order reads, or the workbook's
-  number format states it. A territory and row order are only hints: a ledger of the same
-  day each month reads as consecutive days in the other order.
+  number format states it, or a country column names the branch's country and its CLDR
+  short date pattern has the branch's order (no branch of the file contradicting its
+  own country's pattern). Row order is only a hint: a ledger of the same day each month
+  reads as consecutive days in the other order.
 * ``undecidable``: an impossible date, or an ambiguous value whose group holds no such
   evidence (a merged file without a country column whose branches differ, a stray row).
 
@@ -315,14 +317,24 @@ def _spice(cells: list[_Cell], writer: Writer, rng: random.Random) -> None:
         cell.truth, cell.state = "", "invalid"
 
 
+def territory_pattern_order(territory: str) -> str | None:
+    """The order of the CLDR short date pattern of a territory's likely locale (babel)."""
+    from babel import Locale
+    return _pattern_order(bd.get_date_format("short", Locale.parse(f"und_{territory}")).pattern)
+
+
 def _status(cells: list[_Cell], orders: dict[str, str], grouped: bool,
             format_order: str | None, shapes: dict[str, tuple[str, ...]] | None = None,
-            host_order: str | None = None) -> list[str]:
+            host_order: str | None = None,
+            territories: dict[str, str] | None = None) -> list[str]:
     """decidable / undecidable / either / missing per cell (see the module docstring).
 
     Without a column naming the branch, branches that write the same shape pool their
-    evidence, and a shape two orders share decides nothing."""
+    evidence, and a shape two orders share decides nothing. With a country column, a
+    branch with no deciding value is decided by its country's CLDR short date pattern,
+    unless a branch of the file shows values against its own country's pattern."""
     shapes = shapes or {}
+    cldr = {g: territory_pattern_order(t) for g, t in (territories or {}).items()}
 
     def key(cell: _Cell) -> object:
         return cell.group if grouped else shapes.get(cell.group, cell.group)
@@ -334,9 +346,15 @@ def _status(cells: list[_Cell], orders: dict[str, str], grouped: bool,
             pinned[key(cell)] = True
         if not cell.stray and cell.group in orders:
             key_orders.setdefault(key(cell), set()).add(orders[cell.group])
+    pinned_groups = {cell.group for cell in cells
+                     if (cell.state == "self" or cell.pins) and not cell.stray}
+    contrary = any(cldr.get(g) in ("DMY", "MDY") and cldr[g] != orders.get(g)
+                   for g in pinned_groups if g in orders)
     status = []
     for cell in cells:
         k = key(cell)
+        by_country = (grouped and not contrary and cell.group in cldr
+                      and cldr[cell.group] == orders.get(cell.group))
         if cell.state == "missing":
             status.append("missing")
         elif cell.state == "invalid":
@@ -346,8 +364,8 @@ def _status(cells: list[_Cell], orders: dict[str, str], grouped: bool,
         elif cell.stray:   # a row from elsewhere: right if read as the host reads
             status.append("either" if cell.order == host_order else "undecidable")
         elif len(key_orders.get(k, ())) <= 1 and (
-                pinned.get(k, False) or (format_order is not None and
-                                         orders.get(cell.group) == format_order)):
+                pinned.get(k, False) or by_country or (format_order is not None and
+                                                       orders.get(cell.group) == format_order)):
             status.append("decidable")
         else:
             status.append("undecidable")
@@ -448,7 +466,9 @@ def make_file(rng: random.Random, index: int, scenario: str) -> CorpusFile:
     data[name] = [c.text for c in cells]
     shapes = {labels[loc]: w.shape for loc, w in writers.items()}
     truths = [DateTruth(name, host.kind, [c.truth for c in cells],
-                        _status(cells, orders, grouped, format_order, shapes, host.order),
+                        _status(cells, orders, grouped, format_order, shapes, host.order,
+                                {labels[loc]: LOCALES[loc][0] for loc in locales}
+                                if with_country else None),
                         orders, host.order if not merged else None,
                         frozenset(i for i, c in enumerate(cells) if c.stray))]
     if scenario == "two_columns":
