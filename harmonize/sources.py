@@ -24,6 +24,7 @@ from __future__ import annotations
 import collections
 import contextlib
 import csv
+import dataclasses
 import datetime as dt
 import decimal
 import io
@@ -42,9 +43,12 @@ from typing import IO, Any
 import numpy as np
 import pandas as pd
 
+from harmonize.safety import LimitError, Limits, check_archive, scan_ods_content
+
 __all__ = [
     "SUPPORTED_SUFFIXES",
     "CsvDialect",
+    "Limits",
     "SourceError",
     "Table",
     "atomic_write_text",
@@ -71,6 +75,7 @@ _SNIFF_RECORDS = 200
 _ENCODING_CANDIDATES = ["cp1252", "cp1250", "cp1251", "latin_1", "shift_jis", "gb18030"]
 _OLE_MAGIC = b"\xd0\xcf\x11\xe0\xa1\xb1\x1a\xe1"
 _XLSX_MAX_ROWS = 1_048_576
+_XLSX_MAX_CELL_CHARS = 32_767  # Excel specifications and limits (from memory)
 _MAX_LISTED_ROWS = 10
 
 
@@ -188,33 +193,88 @@ def _check_suffix(path: Path) -> None:
 # Reading: dispatch
 
 
-def read_tables(path: Path, *, max_cells: int = 50_000_000) -> list[Table]:
-    """Read one input file: one Table per worksheet, one for CSV/Parquet."""
+def read_tables(
+    path: Path, *, max_cells: int | None = None, limits: Limits | None = None
+) -> list[Table]:
+    """Read one input file: one Table per worksheet, one for CSV/Parquet.
+
+    ``limits`` caps what the file may make us hold (default: ``Limits.from_env()``);
+    ``max_cells`` overrides its cell cap. Whatever the bytes, the only exception that
+    leaves is SourceError: a parser choking on damaged content is reported as such.
+    """
     path = Path(path)
+    limits = _effective_limits(path, limits, max_cells)
     if path.is_dir():
         raise SourceError(path, "is a folder, not a file")
     if not path.exists():
         raise SourceError(path, "no such file")
     _check_suffix(path)
-    suffix = path.suffix.lower()
     try:
         if path.stat().st_size == 0:
             raise SourceError(path, "empty file")
-        if suffix in _DELIMITED:
-            return [_read_delimited(path, max_cells)]
-        if suffix in _WORKBOOKS:
-            return _read_xlsx(path, max_cells)
-        if suffix == ".ods":
-            return _read_ods(path, max_cells)
-        return [_read_parquet(path, max_cells)]
+        return _dispatch(path, limits)
+    except SourceError:
+        raise
+    except LimitError as exc:
+        raise SourceError(path, str(exc)) from None
     except OSError as exc:
         raise SourceError(path, f"cannot read: {exc.strerror or exc}") from exc
+    except MemoryError:
+        raise SourceError(path, "out of memory while reading; the file is too large") from None
+    except Exception as exc:  # third-party parsers raise anything on damaged bytes
+        detail = " ".join(str(exc).split())[:160]
+        raise SourceError(
+            path, f"damaged or unreadable content ({type(exc).__name__}: {detail})"
+        ) from exc
 
 
-def _check_cells(path: Path, sheet: str | None, rows: int, cols: int, limit: int) -> None:
-    if rows * cols > limit:
-        where = f"sheet '{sheet}' has" if sheet is not None else "has"
-        raise SourceError(path, f"{where} {rows * cols} cells, over the limit {limit}")
+def _effective_limits(path: Path, limits: Limits | None, max_cells: int | None) -> Limits:
+    if limits is None:
+        try:
+            limits = Limits.from_env()
+        except LimitError as exc:
+            raise SourceError(path, str(exc)) from None
+    return limits if max_cells is None else dataclasses.replace(limits, max_cells=max_cells)
+
+
+def _dispatch(path: Path, limits: Limits) -> list[Table]:
+    suffix = path.suffix.lower()
+    if suffix in _DELIMITED:
+        return [_read_delimited(path, limits)]
+    if suffix in _WORKBOOKS:
+        return _read_xlsx(path, limits)
+    if suffix == ".ods":
+        return _read_ods(path, limits)
+    return [_read_parquet(path, limits)]
+
+
+def _check_cells(path: Path, sheet: str | None, rows: int, cols: int, limits: Limits) -> None:
+    where = f"sheet '{sheet}' has" if sheet is not None else "has"
+    if cols > limits.max_columns:
+        raise SourceError(path, f"{where} {cols} columns, over the limit {limits.max_columns}")
+    if rows * cols > limits.max_cells:
+        raise SourceError(path, f"{where} {rows * cols} cells, over the limit {limits.max_cells}")
+
+
+def _check_cell_sizes(
+    path: Path, sheet: str | None, frame: pd.DataFrame, header_row: int, limits: Limits
+) -> None:
+    """Refuse a cell longer than the limit, naming its column (vectorised per column)."""
+    cap = limits.max_cell_chars
+    for position in range(frame.shape[1]):
+        lengths = frame.iloc[:, position].str.len()
+        longest = lengths.max() if len(lengths) else 0
+        if pd.notna(longest) and longest > cap:
+            row = int(np.argmax(lengths.to_numpy(dtype=float)))
+            name = str(frame.columns[position])
+            raise SourceError(
+                path,
+                f"column '{name}' holds {int(longest)} characters in one cell,"
+                f" over the limit {cap}",
+                sheet=sheet,
+                row=header_row + 1 + row,
+                column=name,
+            )
 
 
 # --------------------------------------------------------------------------
@@ -236,18 +296,27 @@ _BOMS = (  # UTF-32 first: its LE BOM starts with the UTF-16 LE BOM
 )
 
 
-def _decode(raw: bytes, where: str | Path) -> tuple[str, str, bool]:
-    """Return (text, codec, had_bom); SourceError for binary content."""
+def _decode(
+    raw: bytes, where: str | Path, notes: list[str] | None = None
+) -> tuple[str, str, bool]:
+    """Return (text, codec, had_bom); SourceError for binary content.
+
+    A file that is UTF-8 except for some lines (exports pasted together from a UTF-8
+    and a legacy source) is read line by line: UTF-8 where the line is valid UTF-8,
+    the legacy code page elsewhere, and those lines are named in ``notes``.
+    """
     for bom, codec in _BOMS:
         if raw.startswith(bom):
             return _strict(raw, codec, where), codec, True
     if b"\x00" in raw:
         codec = _bomless_utf16(raw[:_SNIFF_CHARS])
         if codec is None:
-            raise _binary(where)
+            raise _nul_error(raw, where)
         return _strict(raw, codec, where), codec, False
     text: str | None = _decodes(raw, "utf-8")
     codec = "utf-8"
+    if text is None:
+        text = _mixed_utf8(raw, notes)
     if text is None:
         codec, text = _legacy_decode(raw)
         if text is None:
@@ -255,6 +324,48 @@ def _decode(raw: bytes, where: str | Path) -> tuple[str, str, bool]:
     if _mostly_control(text[:_SNIFF_CHARS]):
         raise _binary(where)
     return text, codec, False
+
+
+def _nul_error(raw: bytes, where: str | Path) -> SourceError:
+    """Binary content, or text damaged by NUL bytes: say which, and where."""
+    rest = raw.replace(b"\x00", b"")
+    readable = _decodes(rest, "utf-8") or _decodes(rest, "cp1252")
+    if readable is None or _mostly_control(readable[:_SNIFF_CHARS]):
+        return _binary(where)
+    line = raw.count(b"\n", 0, raw.index(b"\x00")) + 1
+    return SourceError(where, f"NUL bytes in the text (first on line {line}): a damaged file")
+
+
+# Well-formed UTF-8 sequences of two to four bytes (Unicode Standard, Table 3-7)
+_UTF8_MULTIBYTE = re.compile(
+    rb"[\xc2-\xdf][\x80-\xbf]|\xe0[\xa0-\xbf][\x80-\xbf]|[\xe1-\xec\xee\xef][\x80-\xbf]{2}"
+    rb"|\xed[\x80-\x9f][\x80-\xbf]|\xf0[\x90-\xbf][\x80-\xbf]{2}"
+    rb"|[\xf1-\xf3][\x80-\xbf]{3}|\xf4[\x80-\x8f][\x80-\xbf]{2}"
+)
+
+
+def _mixed_utf8(raw: bytes, notes: list[str] | None) -> str | None:
+    """Text of a UTF-8 file with some non-UTF-8 lines, or None if it is not one."""
+    lines = raw.splitlines(keepends=True)
+    texts = [_decodes(line, "utf-8") for line in lines]
+    bad = [i for i, t in enumerate(texts) if t is None]
+    good_non_ascii = any(
+        t is not None and not lines[i].isascii() for i, t in enumerate(texts)
+    )
+    if not good_non_ascii or not _UTF8_MULTIBYTE.search(raw):
+        return None  # no line shows UTF-8: a legacy code page throughout
+    codec, legacy = _legacy_decode(b"".join(lines[i] for i in bad))
+    if legacy is None:
+        return None
+    for i in bad:
+        texts[i] = _decodes(lines[i], codec)
+        if texts[i] is None:
+            return None
+    if notes is not None:
+        shown = _row_list([i + 1 for i in bad])
+        label = "line" if len(bad) == 1 else "lines"
+        notes.append(f"{label} {shown} not valid UTF-8: read as {codec}")
+    return "".join(t for t in texts if t is not None)
 
 
 def _legacy_decode(raw: bytes) -> tuple[str, str | None]:
@@ -370,10 +481,28 @@ def _detect_delimiter(sample: str) -> str:
         if exact >= 0.5:
             scores[delim] = exact - over
     if not scores:
-        return ""
+        return _ragged_delimiter(sample)
     top = max(scores.values())
     tied = [d for d in _CANDIDATE_DELIMITERS if scores.get(d) == top]
     return tied[0] if len(tied) == 1 else _sniffer_pick(sample, tied)
+
+
+def _ragged_delimiter(sample: str) -> str:
+    """The delimiter of a file whose rows rarely match the header's field count.
+
+    Rows that are ragged still split on their delimiter: a candidate that splits the
+    header and most data records is the delimiter, and the parser then pads short rows
+    or names the first row with too many fields, instead of reading one column.
+    """
+    best, best_share = "", 0.5
+    for delim in _CANDIDATE_DELIMITERS:
+        counts = _sample_field_counts(sample, delim)
+        if len(counts) < 2 or counts[0] <= 1:
+            continue
+        share = sum(c > 1 for c in counts[1:]) / (len(counts) - 1)
+        if share > best_share:
+            best, best_share = delim, share
+    return best
 
 
 def _sample_field_counts(sample: str, delim: str) -> list[int]:
@@ -398,8 +527,9 @@ def _sniffer_pick(sample: str, tied: list[str]) -> str:
 # Delimited text: parsing
 
 
-def _read_delimited(path: Path, max_cells: int) -> Table:
-    text, encoding, bom = _decode(path.read_bytes(), path)
+def _read_delimited(path: Path, limits: Limits) -> Table:
+    notes: list[str] = []
+    text, encoding, bom = _decode(path.read_bytes(), path, notes)
     if not text.strip():
         raise SourceError(path, "empty file")
     forced = "\t" if path.suffix.lower() == ".tsv" else None
@@ -407,17 +537,35 @@ def _read_delimited(path: Path, max_cells: int) -> Table:
     lead = _leading_blank_lines(text)
     body = text[lead:]
     header_row = len(_LINE_BREAK.findall(text, 0, lead)) + 1
+    _precheck_size(path, body, delim, limits)
     raw = _parse_body(path, body, delim, header_row)
-    notes: list[str] = []
     padded = _padded_rows(body, delim, raw, header_row)
     if padded:
         notes.append(f"ragged rows {_row_list(padded)} padded with empty cells")
     frame = _drop_trailing_empty(raw.iloc[1:].reset_index(drop=True), raw.iloc[0])
     header = [str(v) for v in raw.iloc[0, : frame.shape[1]]]
     frame.columns = pd.Index(_name_columns(path, None, header, notes), dtype=object)
-    _check_cells(path, None, *frame.shape, max_cells)
+    _check_cells(path, None, *frame.shape, limits)
+    if len(text) > limits.max_cell_chars:  # otherwise no cell can be that long
+        _check_cell_sizes(path, None, frame, header_row, limits)
     dialect = CsvDialect(encoding, delim, bom)
     return Table(path, None, frame, header_row, {}, {}, dialect, False, notes)
+
+
+def _precheck_size(path: Path, body: str, delim: str, limits: Limits) -> None:
+    """Refuse a table too wide or too large before the parser builds it.
+
+    Columns come from the header line, rows from the line count: quoted line breaks
+    can only make the estimate too high, never let a large file through.
+    """
+    end = _LINE_BREAK.search(body)
+    first = body[: end.start() if end else len(body)]
+    columns = first.count(delim) + 1 if delim else 1
+    if columns > limits.max_columns:
+        raise SourceError(path, f"has {columns} columns, over the limit {limits.max_columns}")
+    rows = body.count("\n") + body.count("\r") - body.count("\r\n") + 1
+    if rows * columns > limits.max_cells:
+        _check_cells(path, None, len(_csv_field_counts(body, delim)), columns, limits)
 
 
 _LINE_BREAK = re.compile(r"\r\n|\r|\n")
@@ -694,11 +842,11 @@ def _all_empty(path: Path, tables: list[Table]) -> list[Table]:
 # XLSX / XLSM (openpyxl, streaming read-only)
 
 
-def _read_xlsx(path: Path, max_cells: int) -> list[Table]:
+def _read_xlsx(path: Path, limits: Limits) -> list[Table]:
     import openpyxl
     from openpyxl.utils.datetime import CALENDAR_MAC_1904
 
-    _check_zip_container(path, "xl/workbook.xml", "workbook")
+    _check_zip_container(path, "xl/workbook.xml", "workbook", limits)
     if not openpyxl.xml.DEFUSEDXML:
         raise SourceError(
             path, "refusing to read a workbook: XML protection (defusedxml) is not active"
@@ -713,16 +861,28 @@ def _read_xlsx(path: Path, max_cells: int) -> list[Table]:
         AttributeError,
         SyntaxError,
     ) as exc:
-        raise SourceError(path, f"not a readable workbook ({type(exc).__name__}: {exc})") from exc
+        raise SourceError(path, f"not a readable workbook ({_parser_detail(exc)})") from exc
     try:
         date1904 = book.epoch == CALENDAR_MAC_1904
-        tables = [_xlsx_sheet(path, ws, date1904, max_cells) for ws in book.worksheets]
+        tables = [_xlsx_sheet(path, ws, date1904, limits) for ws in book.worksheets]
     finally:
         book.close()
     return _all_empty(path, tables)
 
 
-def _check_zip_container(path: Path, member: str, kind: str) -> None:
+def _parser_detail(exc: Exception) -> str:
+    from defusedxml import DefusedXmlException
+
+    cause: BaseException | None = exc
+    while cause is not None:  # openpyxl wraps the parser's error in its own
+        if isinstance(cause, DefusedXmlException):
+            return "XML with a DTD or entity declarations refused: possible entity expansion"
+        cause = cause.__cause__ or cause.__context__
+    return f"{type(exc).__name__}: {' '.join(str(exc).split())[:160]}"
+
+
+def _check_zip_container(path: Path, member: str, kind: str, limits: Limits) -> None:
+    """Refuse what is not this kind of zip, or a zip whose declared contents are hostile."""
     with path.open("rb") as handle:
         head = handle.read(8)
     if head.startswith(_OLE_MAGIC):
@@ -736,13 +896,16 @@ def _check_zip_container(path: Path, member: str, kind: str) -> None:
     try:
         with zipfile.ZipFile(path) as archive:
             names = set(archive.namelist())
-    except zipfile.BadZipFile as exc:
+            check_archive(archive, limits)
+    except (zipfile.BadZipFile, zipfile.LargeZipFile, EOFError) as exc:
         raise SourceError(path, f"corrupt or truncated {kind} ({exc})") from exc
+    except LimitError as exc:
+        raise SourceError(path, f"{kind} refused: {exc}") from None
     if member not in names:
         raise SourceError(path, f"not a {kind} (zip archive without {member})")
 
 
-def _xlsx_sheet(path: Path, ws: Any, date1904: bool, max_cells: int) -> Table:
+def _xlsx_sheet(path: Path, ws: Any, date1904: bool, limits: Limits) -> Table:
     declared = (ws.max_row or 0) * (ws.max_column or 0)
     ws.reset_dimensions()  # stated dimensions can be wrong; read what is there
     builder = _SheetBuilder()
@@ -753,34 +916,43 @@ def _xlsx_sheet(path: Path, ws: Any, date1904: bool, max_cells: int) -> Table:
             for number, row in enumerate(ws.iter_rows(min_row=1, min_col=1), start=1):
                 width = max(width, len(row))
                 cells = number * width
-                if cells > max_cells:
+                if width > limits.max_columns:
+                    raise SourceError(
+                        path,
+                        f"sheet '{ws.title}' has {width} columns,"
+                        f" over the limit {limits.max_columns}",
+                    )
+                if cells > limits.max_cells:
                     size = f"{declared}" if declared >= cells else f"at least {cells}"
                     raise SourceError(
-                        path, f"sheet '{ws.title}' has {size} cells, over the limit {max_cells}"
+                        path,
+                        f"sheet '{ws.title}' has {size} cells, over the limit {limits.max_cells}",
                     )
                 builder.add(number, ((c.value, c.number_format) for c in row))
         except SourceError:
             raise
         except (zipfile.BadZipFile, KeyError, ValueError, TypeError, SyntaxError) as exc:
-            raise SourceError(
-                path, f"corrupt sheet ({type(exc).__name__}: {exc})", sheet=ws.title
-            ) from exc
+            detail = _parser_detail(exc)
+            raise SourceError(path, f"corrupt sheet ({detail})", sheet=ws.title) from exc
     notes = [" ".join(str(w.message).split()) for w in caught]
-    return builder.table(path, ws.title, date1904, notes, with_formats=True)
+    table = builder.table(path, ws.title, date1904, notes, with_formats=True)
+    _check_cell_sizes(path, ws.title, table.frame, table.header_row, limits)
+    return table
 
 
 # --------------------------------------------------------------------------
 # ODS (python-calamine)
 
 
-def _read_ods(path: Path, max_cells: int) -> list[Table]:
+def _read_ods(path: Path, limits: Limits) -> list[Table]:
     from python_calamine import CalamineError, CalamineWorkbook
 
-    _check_zip_container(path, "content.xml", "spreadsheet")
+    _check_zip_container(path, "content.xml", "spreadsheet", limits)
+    _vet_ods(path, limits)
     try:
         book = CalamineWorkbook.from_path(str(path))
         try:
-            tables = [_ods_sheet(path, book, name, max_cells) for name in book.sheet_names]
+            tables = [_ods_sheet(path, book, name, limits) for name in book.sheet_names]
         finally:
             book.close()
     except CalamineError as exc:
@@ -788,28 +960,51 @@ def _read_ods(path: Path, max_cells: int) -> list[Table]:
     return _all_empty(path, tables)
 
 
-def _ods_sheet(path: Path, book: Any, name: str, max_cells: int) -> Table:
+def _vet_ods(path: Path, limits: Limits) -> None:
+    """Before calamine expands anything: refuse encryption, entities and repeat bombs."""
+    with zipfile.ZipFile(path) as archive:
+        names = set(archive.namelist())
+        manifest = "META-INF/manifest.xml"
+        # OpenDocument 1.2 Part 3 §4.8: encrypted members carry <manifest:encryption-data>
+        if manifest in names and b"encryption-data" in archive.read(manifest):
+            raise SourceError(
+                path, "password-protected (encrypted) spreadsheet: save it unprotected"
+            )
+        with archive.open("content.xml") as content:
+            try:
+                scan_ods_content(content, limits)
+            except LimitError as exc:
+                raise SourceError(path, f"spreadsheet refused: {exc}") from None
+
+
+def _ods_sheet(path: Path, book: Any, name: str, limits: Limits) -> Table:
     sheet = book.get_sheet_by_name(name)
-    _check_cells(path, name, sheet.total_height, sheet.total_width, max_cells)
+    _check_cells(path, name, sheet.total_height, sheet.total_width, limits)
     builder = _SheetBuilder()
     # skip_empty_area=False keeps leading empty rows so row numbers match the sheet
     for number, row in enumerate(sheet.to_python(skip_empty_area=False), start=1):
         builder.add(number, ((None if v == "" else v, None) for v in row))
-    return builder.table(path, name, False, [], with_formats=False)
+    table = builder.table(path, name, False, [], with_formats=False)
+    _check_cell_sizes(path, name, table.frame, table.header_row, limits)
+    return table
 
 
 # --------------------------------------------------------------------------
 # Parquet (pyarrow)
 
 
-def _read_parquet(path: Path, max_cells: int) -> Table:
+def _read_parquet(path: Path, limits: Limits) -> Table:
     import pyarrow as pa
     import pyarrow.parquet as pq
 
     try:
         meta = pq.read_metadata(path)
-        _check_cells(path, None, meta.num_rows, meta.num_columns, max_cells)
-        arrow = pq.read_table(path)
+        _check_cells(path, None, meta.num_rows, meta.num_columns, limits)
+        _check_parquet_size(path, meta, limits)
+        # text columns stay dictionary-encoded: a value repeated on a million rows is
+        # held once, and its decoded size is checked before anything is expanded
+        arrow = pq.read_table(path, read_dictionary=_text_fields(pq.read_schema(path)))
+        _check_decoded_text(path, arrow, limits)
     except (pa.ArrowException, OSError) as exc:
         if isinstance(exc, (FileNotFoundError, PermissionError)):
             raise
@@ -828,6 +1023,49 @@ def _read_parquet(path: Path, max_cells: int) -> Table:
     return Table(path, None, frame, 1, typed, {}, None, False, notes)
 
 
+def _text_fields(schema: Any) -> list[str]:
+    import pyarrow as pa
+
+    kinds = (pa.types.is_string, pa.types.is_large_string, pa.types.is_binary,
+             pa.types.is_large_binary)
+    return [f.name for f in schema if any(test(f.type) for test in kinds)]
+
+
+def _check_decoded_text(path: Path, arrow: Any, limits: Limits) -> None:
+    """Refuse text that would decode past the limits (a dictionary bomb)."""
+    import pyarrow as pa
+    import pyarrow.compute as pc
+
+    total = 0
+    for name, column in zip(arrow.column_names, arrow.columns, strict=True):
+        if not pa.types.is_dictionary(column.type):
+            continue
+        for chunk in column.chunks:
+            lengths = pc.binary_length(chunk.dictionary)
+            longest = pc.max(lengths).as_py() or 0
+            if longest > limits.max_cell_chars:
+                raise SourceError(
+                    path,
+                    f"column '{name}' holds a value of {longest} bytes,"
+                    f" over the limit {limits.max_cell_chars}",
+                    column=str(name),
+                )
+            total += pc.sum(pc.take(lengths, chunk.indices)).as_py() or 0
+    if total > limits.max_unpacked_bytes:
+        raise SourceError(
+            path, f"text decodes to {total} bytes, over the limit {limits.max_unpacked_bytes}"
+        )
+
+
+def _check_parquet_size(path: Path, meta: Any, limits: Limits) -> None:
+    """Refuse a file whose row groups declare more bytes than an archive may unpack to."""
+    total = sum(meta.row_group(i).total_byte_size for i in range(meta.num_row_groups))
+    if total > limits.max_unpacked_bytes:
+        raise SourceError(
+            path, f"declares {total} bytes of data, over the limit {limits.max_unpacked_bytes}"
+        )
+
+
 def _arrow_text(path: Path, name: str, column: Any) -> tuple[np.ndarray, str | None]:
     """A whole Arrow column as object text (nulls -> "") plus its type tag."""
     import pyarrow as pa
@@ -835,6 +1073,8 @@ def _arrow_text(path: Path, name: str, column: Any) -> tuple[np.ndarray, str | N
 
     kind = column.type
     if pa.types.is_dictionary(kind):
+        if _is_text(kind.value_type):
+            return _dictionary_text(path, name, column)
         column, kind = column.cast(kind.value_type), kind.value_type
     if pa.types.is_string(kind) or pa.types.is_large_string(kind) or pa.types.is_string_view(kind):
         return _filled(column), None
@@ -864,6 +1104,37 @@ def _arrow_text(path: Path, name: str, column: Any) -> tuple[np.ndarray, str | N
                 path, f"column '{name}' holds binary data that is not UTF-8 text", column=name
             ) from exc
     raise SourceError(path, f"column '{name}' has unsupported type {kind}", column=name)
+
+
+def _is_text(kind: Any) -> bool:
+    import pyarrow as pa
+
+    return pa.types.is_string(kind) or pa.types.is_large_string(kind) or pa.types.is_binary(
+        kind
+    ) or pa.types.is_large_binary(kind)
+
+
+def _dictionary_text(path: Path, name: str, column: Any) -> tuple[np.ndarray, None]:
+    """Rows as references to each distinct text (nulls -> ""), without decoding per row."""
+    import pyarrow as pa
+    import pyarrow.compute as pc
+
+    parts = []
+    for chunk in column.chunks:
+        values = chunk.dictionary
+        if pa.types.is_binary(values.type) or pa.types.is_large_binary(values.type):
+            try:
+                values = values.cast(pa.string())
+            except pa.ArrowInvalid as exc:
+                raise SourceError(
+                    path, f"column '{name}' holds binary data that is not UTF-8 text",
+                    column=name,
+                ) from exc
+        lookup = np.array([*values.to_pylist(), ""], dtype=object)
+        lookup[:-1][pd.isna(lookup[:-1])] = ""
+        codes = pc.fill_null(chunk.indices, len(values)).to_numpy(zero_copy_only=False)
+        parts.append(lookup[codes])
+    return (np.concatenate(parts) if parts else np.array([], dtype=object)), None
 
 
 def _filled(column: Any) -> np.ndarray:
@@ -904,10 +1175,13 @@ def atomic_write_text(dest: Path, text: str) -> None:
 
 
 def write_table(frame: pd.DataFrame, dest: Path, *, fmt: str) -> None:
-    """Write one table as text cells: fmt is "csv", "xlsx" or "parquet"."""
+    """Write one table as text cells: fmt is "csv", "xlsx" or "parquet".
+
+    "csv" writes tab-separated text when ``dest`` ends in .tsv, comma-separated otherwise.
+    """
     dest = Path(dest)
     writers: dict[str, Callable[[IO[bytes]], None]] = {
-        "csv": lambda handle: _write_csv(frame, handle),
+        "csv": lambda handle: _write_csv(frame, handle, _delimiter_for(dest)),
         "xlsx": lambda handle: _write_xlsx({"Sheet1": frame}, dest, handle),
         "parquet": lambda handle: _write_parquet(frame, handle),
     }
@@ -976,9 +1250,15 @@ def _text_columns(frame: pd.DataFrame) -> list[np.ndarray]:
     return out
 
 
-def _write_csv(frame: pd.DataFrame, handle: IO[bytes]) -> None:
+def _delimiter_for(dest: Path) -> str:
+    # a .tsv output must read back as tab-separated (the reader forces tabs for .tsv)
+    return "\t" if dest.suffix.lower() == ".tsv" else ","
+
+
+def _write_csv(frame: pd.DataFrame, handle: IO[bytes], delimiter: str = ",") -> None:
     frame.to_csv(
         handle,
+        sep=delimiter,
         index=False,
         encoding="utf-8",
         lineterminator="\n",
@@ -1050,6 +1330,15 @@ def _check_xlsx_text(dest: Path, sheet: str, frame: pd.DataFrame) -> None:
                 f"control character not allowed in XLSX: {text[:40]!r}",
                 sheet=sheet,
                 row=row or int(bad[0]) + 2,
+            )
+        long = np.flatnonzero(values.str.len().fillna(0).to_numpy() > _XLSX_MAX_CELL_CHARS)
+        if len(long):
+            raise SourceError(
+                dest,
+                f"a cell of {len(values.iloc[long[0]])} characters does not fit XLSX"
+                f" (at most {_XLSX_MAX_CELL_CHARS}); write CSV or Parquet instead",
+                sheet=sheet,
+                row=row or int(long[0]) + 2,
             )
 
 

@@ -694,7 +694,7 @@ class TestAtomicWrites:
         dest = tmp_path / "out.csv"
         dest.write_text("previous run\n")
 
-        def broken(frame: pd.DataFrame, handle: io.BufferedWriter) -> None:
+        def broken(frame: pd.DataFrame, handle: io.BufferedWriter, *_: object) -> None:
             handle.write(b"Lot,Note\n007,")
             raise RuntimeError("disk went away")
 
@@ -714,3 +714,150 @@ class TestAtomicWrites:
     def test_missing_folder(self, tmp_path: Path) -> None:
         with pytest.raises(SourceError, match="cannot write"):
             atomic_write_text(tmp_path / "no" / "such.txt", "x")
+
+
+# --------------------------------------------------------------------------
+# Damaged and hostile inputs (more in tests/test_reliability.py)
+
+
+class TestDamagedText:
+    def test_utf8_file_with_legacy_lines(self, tmp_path: Path) -> None:
+        # Reference: Python's utf-8 and cp1252 codecs produced the two halves.
+        path = tmp_path / "pasted.csv"
+        path.write_bytes(
+            "Grower,Depot\nZoë Quillfeather,Liège\n".encode() + "Noël Brackenridge,Sète\n".encode(
+                "cp1252"
+            )
+        )
+        table = only_table(path)
+        assert table.frame.to_numpy().tolist() == [
+            ["Zoë Quillfeather", "Liège"],
+            ["Noël Brackenridge", "Sète"],
+        ]
+        assert table.dialect is not None and table.dialect.encoding == "utf-8"
+        assert table.warnings == ["line 3 not valid UTF-8: read as cp1252"]
+
+    def test_legacy_file_without_utf8_stays_legacy(self, tmp_path: Path) -> None:
+        path = tmp_path / "legacy.csv"
+        path.write_bytes("Grower;Depot\nZoë;Liège\n".encode("cp1252"))
+        table = only_table(path)
+        assert table.dialect is not None and table.dialect.encoding == "cp1252"
+        assert table.warnings == []
+
+    def test_nul_byte_in_text_names_the_line(self, tmp_path: Path) -> None:
+        path = tmp_path / "nul.csv"
+        path.write_bytes(b"Lot,Kg\n007,5\n008,\x006\n")
+        with pytest.raises(SourceError, match=r"nul\.csv: NUL bytes in the text \(first on line 3"):
+            read_tables(path)
+
+    def test_every_row_ragged_still_splits(self, tmp_path: Path) -> None:
+        # Each data row is short: the comma still splits the header and the rows.
+        path = tmp_path / "short.csv"
+        path.write_text("Lot,Kg,Depot\n007,5\n008,6\n")
+        table = only_table(path)
+        assert frame_rows(table) == [["Lot", "Kg", "Depot"], ["007", "5", ""], ["008", "6", ""]]
+        assert table.warnings == ["ragged rows 2, 3 padded with empty cells"]
+
+    def test_long_rows_are_refused_not_read_as_one_column(self, tmp_path: Path) -> None:
+        path = tmp_path / "long.csv"
+        path.write_text("Lot,Kg,Depot\n007,5,N,extra\n")
+        with pytest.raises(SourceError, match="row 2: expected 3 fields, found 4"):
+            read_tables(path)
+
+    def test_column_limit_before_parsing(self, tmp_path: Path) -> None:
+        path = tmp_path / "wide.csv"
+        path.write_text(",".join(f"c{i}" for i in range(40)) + "\n" + "1," * 39 + "1\n")
+        with pytest.raises(SourceError, match="has 40 columns, over the limit 30"):
+            read_tables(path, limits=sources.Limits(max_columns=30))
+
+    def test_classic_mac_line_breaks_count_rows(self, tmp_path: Path) -> None:
+        path = tmp_path / "mac.csv"
+        path.write_text("a,b\r1,2\r3,4\r", newline="")
+        with pytest.raises(SourceError, match="has 6 cells, over the limit 5"):
+            read_tables(path, max_cells=5)
+
+
+def ods_repeat(cells: str, rows: int = 1) -> str:
+    return f'<table:table-row table:number-rows-repeated="{rows}">{cells}</table:table-row>'
+
+
+class TestHostileOds:
+    def test_padding_to_the_sheet_edge_is_not_data(self, tmp_path: Path) -> None:
+        # Office suites pad rows with empty repeated cells and the sheet with empty rows.
+        path = tmp_path / "padded.ods"
+        empty = '<table:table-cell table:number-columns-repeated="1020"/>'
+        write_ods(
+            path,
+            [
+                [ods_cell("string", "", "Lot"), ods_cell("string", "", "Kg"), empty],
+                [ods_cell("string", "", "007"), ods_cell("float", "5", "5"), empty],
+            ],
+        )
+        raw = xml_of(path, "content.xml").replace(
+            "</table:table>", ods_repeat(empty, 1_048_000) + "</table:table>"
+        )
+        _replace_member(path, "content.xml", raw)
+        assert frame_rows(only_table(path)) == [["Lot", "Kg"], ["007", "5"]]
+
+    def test_repeated_cells_bomb_refused_before_expansion(self, tmp_path: Path) -> None:
+        path = tmp_path / "bomb.ods"
+        write_ods(path, [[ods_cell("string", "", "Lot")]])
+        bomb = ods_repeat(
+            '<table:table-cell office:value-type="string" table:number-columns-repeated="9000">'
+            "<text:p>x</text:p></table:table-cell>",
+            1_000_000,
+        )
+        raw = xml_of(path, "content.xml").replace("</table:table>", bomb + "</table:table>")
+        _replace_member(path, "content.xml", raw)
+        with pytest.raises(SourceError, match=r"sheet 'Stock' has at least \d+ cells, over"):
+            read_tables(path)
+
+    def test_entities_refused(self, tmp_path: Path) -> None:
+        path = tmp_path / "entities.ods"
+        write_ods(path, [[ods_cell("string", "", "&e2;")]])
+        doctype = '<!DOCTYPE d [<!ENTITY e1 "aaaa"><!ENTITY e2 "&e1;&e1;&e1;&e1;">]>'
+        raw = xml_of(path, "content.xml").replace("?>", "?>" + doctype, 1)
+        _replace_member(path, "content.xml", raw)
+        with pytest.raises(SourceError, match="refusing XML with a DTD or entities"):
+            read_tables(path)
+
+
+def _replace_member(path: Path, member: str, text: str) -> None:
+    with zipfile.ZipFile(path) as archive:
+        members = {n: archive.read(n) for n in archive.namelist()}
+    members[member] = text.encode("utf-8")
+    with zipfile.ZipFile(path, "w", zipfile.ZIP_DEFLATED) as archive:
+        for name, body in members.items():
+            archive.writestr(name, body)
+
+
+class TestWriteLimits:
+    def test_tsv_output_reads_back_as_tabs(self, tmp_path: Path) -> None:
+        dest = tmp_path / "orders.tsv"
+        frame = pd.DataFrame({"Lot": ["007", "a,b"], "Kg": ["5", "6"]}, dtype=object)
+        write_table(frame, dest, fmt="csv")
+        assert dest.read_bytes() == b"Lot\tKg\n007\t5\na,b\t6\n"
+        assert frame_rows(only_table(dest)) == [["Lot", "Kg"], ["007", "5"], ["a,b", "6"]]
+
+    def test_xlsx_cell_over_32767_characters_refused(self, tmp_path: Path) -> None:
+        frame = pd.DataFrame({"Spec": ["short", "x" * 40_000]}, dtype=object)
+        with pytest.raises(SourceError, match="row 3: a cell of 40000 characters does not fit"):
+            write_table(frame, tmp_path / "long.xlsx", fmt="xlsx")
+        assert list(tmp_path.iterdir()) == []
+
+
+class TestParquetLimits:
+    def test_dictionary_bomb_refused_before_decoding(self, tmp_path: Path) -> None:
+        # One 10 000-byte value on 50 000 rows: a few KB on disk, 500 MB decoded.
+        path = tmp_path / "bomb.parquet"
+        column = pa.DictionaryArray.from_arrays(pa.array([0] * 50_000, pa.int32()),
+                                                pa.array(["x" * 10_000]))
+        pq.write_table(pa.table({"note": column}), path)
+        assert path.stat().st_size < 100_000
+        with pytest.raises(SourceError, match="text decodes to 500000000 bytes, over the limit"):
+            read_tables(path, limits=sources.Limits(max_unpacked_bytes=100_000_000))
+
+    def test_repeated_text_read_exactly(self, tmp_path: Path) -> None:
+        path = tmp_path / "repeat.parquet"
+        pq.write_table(pa.table({"lot": ["007", None, "007", "n/a"]}), path)
+        assert only_table(path).frame["lot"].tolist() == ["007", "", "007", "n/a"]
