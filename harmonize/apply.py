@@ -87,12 +87,19 @@ def _conversions(plan: ColumnPlan, column: ColumnEvidence, context: Context,
                          dtype=bool)
     found = []
     for mask, convention in _partitions(plan, column, context, drift):
-        wanted = np.unique(codes[mask & row_present])
+        wanted = _codes_used(codes[mask & row_present], len(column.values))
         for subset, conv in ((wanted[~typed[wanted]], convention),
                              (wanted[typed[wanted]], {**convention, **TYPED_NUMBER_KEYS})):
             if len(subset):
                 found.append((mask, conv, subset))
     return found
+
+
+def _codes_used(codes: np.ndarray, n_values: int) -> np.ndarray:
+    """The distinct codes present, ascending (a count per value: linear, no sort)."""
+    if len(codes) and codes.min() < 0:
+        return np.unique(codes)
+    return np.flatnonzero(np.bincount(codes, minlength=n_values))
 
 
 def _fill(result: Converted, values: np.ndarray, mode: str) -> list[str]:

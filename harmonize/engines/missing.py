@@ -17,6 +17,8 @@ from dataclasses import dataclass, field
 
 import numpy as np
 import pandas as pd
+import pyarrow as pa
+import pyarrow.compute as pc
 
 from harmonize.evidence import ColumnEvidence
 from harmonize.locales import all_entries
@@ -79,6 +81,11 @@ def _sentinels(folded: pd.Series, counts: np.ndarray) -> set[str]:
     return found
 
 
+def _zero_digits(folded: pd.Series) -> np.ndarray:
+    """How many "0" each value holds (a literal count in Arrow: no regex engine)."""
+    return np.asarray(pc.count_substring(pa.array(folded), "0"))
+
+
 def find_missing(column: ColumnEvidence, options: Options | None = None) -> MissingRule:
     """Decide which of a column's distinct values mean "no value"."""
     options = options or Options()
@@ -90,7 +97,7 @@ def find_missing(column: ColumnEvidence, options: Options | None = None) -> Miss
     emails = folded[folded.str.contains("@", regex=False)]
     for token in emails[emails.str.match(_EMAIL_PLACEHOLDER)].unique():
         reasons[token] = "placeholder e-mail at a reserved example domain"
-    zeros = folded[folded.str.count("0") >= 6]
+    zeros = folded[_zero_digits(folded) >= 6]
     if not _PHONE_HEADER.search(column.name):
         # bare "0000000" may be a real code; only a phone's punctuation marks a placeholder
         zeros = zeros[zeros.str.contains(r"[\s()+\-./]")]

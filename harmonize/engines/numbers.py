@@ -252,10 +252,11 @@ def _identifier_like(column: ColumnEvidence, forms: Forms) -> bool:
     """Codes that happen to be digits (leading zeros, fixed width, 16+ digits)."""
     counts, total = column.counts, max(column.total, 1)
     bare = forms.bare_digits
-    texts = forms.text
-    lengths = np.fromiter((len(t) for t in texts), dtype=np.int64, count=len(texts))
-    leading_zero = bare & (lengths > 1) & np.array([t.startswith("0") for t in texts], bool)
-    long_digits = np.array([len(t) >= 16 and t.isdigit() for t in texts], bool)
+    texts, lengths = forms.text, forms.length
+    leading_zero = bare & (lengths > 1) & forms.zero_first
+    long_digits = np.zeros(len(texts), dtype=bool)
+    longer = np.flatnonzero(lengths >= 16)
+    long_digits[longer] = [texts[i].isdigit() for i in longer.tolist()]
     if counts[leading_zero | long_digits].sum() >= IDENTIFIER_SHARE * total:
         return True
     number_cells = counts[forms.is_number].sum()
@@ -294,8 +295,10 @@ class NumberEngine:
             return None
         if _unit_lookalike(forms, number):
             fit *= 0.5
-        typed = np.array([column.typed.get(v) == "number" for v in column.values.tolist()],
-                         dtype=bool)
+        typed = np.zeros(len(forms), dtype=bool)
+        if column.typed:
+            typed = np.array([column.typed.get(v) == "number" for v in column.values.tolist()],
+                             dtype=bool)
         skip = typed if (~typed & number).any() else np.zeros(len(forms), bool)
         marks = decide_column_marks(column, forms, context, skip)
         currency = _decide_currency(column, forms, context, number)

@@ -26,6 +26,7 @@ from harmonize.engines.numbers_forms import (
     SAME,
     Forms,
     analyse,
+    distinct_inverse,
     format_decimal_plain,
     to_decimal,
 )
@@ -96,7 +97,7 @@ def plain_texts(digits: np.ndarray, shift: np.ndarray, negative: np.ndarray,
 def value_currencies(forms: Forms, convention: Mapping[str, Any]) -> np.ndarray:
     """Per value: the ISO code its sign names ("" none, UNKNOWN if not resolved)."""
     symbols = convention.get("symbols") or {}
-    tokens, inverse = np.unique(forms.currency, return_inverse=True)
+    tokens, inverse = distinct_inverse(forms.currency)
     codes = [resolve_alone(t) or symbols.get(t) or UNKNOWN if t else "" for t in tokens]
     return np.asarray(codes, dtype=object)[inverse] if len(tokens) else np.zeros(0, object)
 

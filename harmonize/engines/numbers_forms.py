@@ -22,6 +22,7 @@ from functools import cache
 from typing import Any
 
 import numpy as np
+import pandas as pd
 import pyarrow as pa
 import pyarrow.compute as pc
 
@@ -45,6 +46,9 @@ FOLD_MAP = {
 }
 FOLD_PAIRS = tuple(FOLD_MAP.items())
 FOLD = str.maketrans(FOLD_MAP)
+# Any character FOLD_MAP rewrites (RE2 syntax): most columns hold none, and one scan
+# for them is cheaper than one rewrite pass per character.
+FOLD_CLASS = "[" + "".join(f"\\x{{{ord(c):04x}}}" for c in FOLD_MAP) + "]"
 
 # Status of a body under the two families (see module docstring).
 NOT_NUMBER, SAME, DOT_ONLY, COMMA_ONLY, AMBIGUOUS = range(5)
@@ -93,6 +97,8 @@ def _magnitude_key(word: str) -> str:
 # The number itself, with whatever comes before and after it; pyarrow (RE2) runs this over
 # all values, and the few distinct prefixes and suffixes are then read in Python.
 SPLIT_PATTERN = r"^(?P<pre>\D*?)(?P<num>\d[\d.,' ]*\d|\d|[.,]\d+)(?P<post>\D*|[eE].*)$"
+# The values SPLIT_PATTERN splits into ("", the value, ""): a number body alone.
+PLAIN_PATTERN = r"^(?:\d[\d.,' ]*\d|\d|[.,]\d+)$"
 
 
 @cache
@@ -110,19 +116,36 @@ def suffix_regex() -> re.Pattern[str]:
         rf"(?: *(?P<pct>%))?(?: *(?P<cur2>{cur}))?(?P<trail> *-)? *(?P<close>\))?")
 
 
-def _read_affixes(affixes: np.ndarray, pattern: re.Pattern[str],
-                  names: tuple[str, ...]) -> tuple[np.ndarray, dict[str, np.ndarray]]:
-    """Match each distinct prefix (or suffix) once; spread the parts back over values."""
-    distinct, inverse = np.unique(affixes, return_inverse=True)
-    ok = np.zeros(len(distinct), dtype=bool)
-    parts = {name: np.full(len(distinct), "", dtype=object) for name in names}
-    for k, affix in enumerate(distinct.tolist()):
-        found = pattern.fullmatch(affix)
-        if found:
-            ok[k] = True
-            for name in names:
-                parts[name][k] = found.group(name) or ""
-    return ok[inverse], {name: part[inverse] for name, part in parts.items()}
+def distinct_inverse(values: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """Distinct strings and each value's index into them (hashing: no sort of objects)."""
+    inverse, distinct = pd.factorize(np.asarray(values, dtype=object))
+    return np.asarray(distinct, dtype=object), inverse
+
+
+class _Affixes:
+    """The parts of each distinct prefix (or suffix), matched once and spread over values."""
+
+    def __init__(self, affixes: pa.Array, pattern: re.Pattern[str],
+                 names: tuple[str, ...]) -> None:
+        encoded = affixes.fill_null("").dictionary_encode()   # a few distinct affixes
+        distinct = encoded.dictionary.to_pylist()
+        self.inverse = np.asarray(encoded.indices, dtype=np.int64)
+        ok = np.zeros(len(distinct), dtype=bool)
+        self.distinct = {name: np.full(len(distinct), "", dtype=object) for name in names}
+        for k, affix in enumerate(distinct):
+            found = pattern.fullmatch(affix)
+            if found:
+                ok[k] = True
+                for name in names:
+                    self.distinct[name][k] = found.group(name) or ""
+        self.ok = ok[self.inverse]
+        self.parts = {name: part[self.inverse] for name, part in self.distinct.items()}
+        self.has = {name: (part != "")[self.inverse] for name, part in self.distinct.items()}
+
+    def spread(self, name: str, function: Any, dtype: Any) -> np.ndarray:
+        """``function`` of each value's part, computed once per distinct affix."""
+        return np.array([function(v) for v in self.distinct[name].tolist()],
+                        dtype=dtype)[self.inverse]
 
 
 @dataclass(frozen=True)
@@ -140,6 +163,8 @@ class Forms:
     currency: np.ndarray    # the currency sign or code as written ("" when none)
     bare_digits: np.ndarray  # nothing but digits: "1234", "007"
     magnitude: np.ndarray   # magnitude word as written ("" when none)
+    length: np.ndarray      # characters in ``text``
+    zero_first: np.ndarray  # ``text`` starts with "0"
 
     def __len__(self) -> int:
         return len(self.status)
@@ -159,29 +184,34 @@ class Forms:
 def analyse(values: list[str] | np.ndarray) -> Forms:
     """Split every distinct value into its parts and classify its body."""
     text = pc.utf8_trim_whitespace(pa.array(list(values), type=pa.string()))
-    for old, new in FOLD_PAIRS:
-        text = pc.replace_substring(text, old, new)
-    split = pc.extract_regex(text, SPLIT_PATTERN)
-    matched = np.asarray(split.is_valid(), dtype=bool)
-    pre_ok, pre = _read_affixes(_strings(split.field("pre")), prefix_regex(), _PREFIX)
-    post_ok, post = _read_affixes(_strings(split.field("post")), suffix_regex(), _SUFFIX)
-    has = {name: part != "" for name, part in (pre | post).items()}
+    if pc.any(pc.match_substring_regex(text, FOLD_CLASS)).as_py():
+        for old, new in FOLD_PAIRS:
+            text = pc.replace_substring(text, old, new)
+    matched, pre_text, num, post_text = _split(text)
+    before = _Affixes(pre_text, prefix_regex(), _PREFIX)
+    after = _Affixes(post_text, suffix_regex(), _SUFFIX)
+    pre, post, has = before.parts, after.parts, before.has | after.has
     n_signs = has["sign1"].astype(int) + has["sign2"] + has["trail"] + has["open"]
     currency = np.where(has["cur1"], pre["cur1"], post["cur2"])
+    named = has["cur1"] | has["cur2"]   # currency != ""
     magnitude = post["mag"]
-    valid = (matched & pre_ok & post_ok & (has["open"] == has["close"]) & (n_signs <= 1)
-             & ~(has["cur1"] & has["cur2"]) & ~(has["pct"] & (currency != ""))
-             & _known_currency(currency) & _magnitude_allowed(magnitude, currency))
+    known = np.where(has["cur1"], before.spread("cur1", _known_code, bool),
+                     after.spread("cur2", _known_code, bool))
+    valid = (matched & before.ok & after.ok & (has["open"] == has["close"]) & (n_signs <= 1)
+             & ~(has["cur1"] & has["cur2"]) & ~(has["pct"] & named)
+             & known & ~(after.spread("mag", _currency_only, bool) & ~named))
 
     # "5,-" and "5.–" are whole amounts written with the decimal mark: read as "5,0"/"5.0"
-    dash_mark = _per_distinct(post["dash"], lambda d: d[:1] + "0" if d else "", object)
-    body = pc.binary_join_element_wise(split.field("num"), pa.array(dash_mark.tolist(),
-                                                                    type=pa.string()), "")
+    body = num
+    if has["dash"].any():
+        dash_mark = after.spread("dash", lambda d: d[:1] + "0" if d else "", object)
+        body = pc.binary_join_element_wise(num, pa.array(dash_mark.tolist(), type=pa.string()),
+                                           "")
     dot_ok = _fullmatch(body, DOT_BODY) & valid
     comma_ok = _fullmatch(body, COMMA_BODY) & valid
-    dot_digits = pc.replace_substring_regex(body, r"[, ']", "")
-    comma_digits = pc.replace_substring(pc.replace_substring_regex(body, r"[. ']", ""), ",", ".")
-    bare = _fullmatch(body, re.compile(r"\d+")) & valid & (n_signs == 0) & (currency == "") & ~(
+    dot_digits = _without(body, ", '")
+    comma_digits = pc.replace_substring(_without(body, ". '"), ",", ".")
+    bare = _fullmatch(body, re.compile(r"\d+")) & valid & (n_signs == 0) & ~named & ~(
         has["pct"] | has["mag"] | has["exp"])
     too_long = bare & (np.asarray(pc.utf8_length(body).fill_null(0)) >= LONG_DIGITS)
     dot_ok &= ~too_long
@@ -195,17 +225,39 @@ def analyse(values: list[str] | np.ndarray) -> Forms:
     status[dot_ok & ~comma_ok] = DOT_ONLY
     status[comma_ok & ~dot_ok] = COMMA_ONLY
 
-    exp = _per_distinct(post["exp"], lambda e: int(e[1:]) if e else 0, np.int64)
+    exp = after.spread("exp", lambda e: int(e[1:]) if e else 0, np.int64)
     shift = exp + _magnitude_powers(magnitude)
     negative = (pre["sign1"] == "-") | (pre["sign2"] == "-") | has["trail"] | has["open"]
     return Forms(text=_strings(text), body=_strings(body), status=status, dot_digits=dot_np,
                  comma_digits=comma_np, shift=shift, negative=negative, percent=has["pct"],
-                 currency=currency, bare_digits=bare, magnitude=magnitude)
+                 currency=currency, bare_digits=bare, magnitude=magnitude,
+                 length=np.asarray(pc.utf8_length(text), dtype=np.int64),
+                 zero_first=np.asarray(pc.starts_with(text, "0"), dtype=bool))
 
 
-def _per_distinct(values: np.ndarray, function: Any, dtype: Any) -> np.ndarray:
-    distinct, inverse = np.unique(values, return_inverse=True)
-    return np.array([function(v) for v in distinct.tolist()], dtype=dtype)[inverse]
+def _split(text: pa.Array) -> tuple[np.ndarray, pa.Array, pa.Array, pa.Array]:
+    """(matched, pre, num, post) of ``SPLIT_PATTERN`` for every value.
+
+    A value that is a number body and nothing else splits into ("", itself, ""); a plain
+    match finds those far faster than extracting groups, so only the rest is extracted."""
+    plain = np.asarray(pc.match_substring_regex(text, PLAIN_PATTERN), dtype=bool)
+    empty = pc.utf8_slice_codeunits(text, 0, 0)
+    if plain.all():
+        return plain, empty, text, empty
+    rest = pa.array(~plain)
+    split = pc.extract_regex(text.filter(rest), SPLIT_PATTERN)
+    matched = plain.copy()
+    matched[~plain] = np.asarray(split.is_valid(), dtype=bool)
+    return (matched, pc.replace_with_mask(empty, rest, split.field("pre")),
+            pc.replace_with_mask(text, rest, split.field("num")),
+            pc.replace_with_mask(empty, rest, split.field("post")))
+
+
+def _without(array: pa.Array, marks: str) -> pa.Array:
+    """The strings with every one of ``marks`` removed (literal passes: no regex)."""
+    for mark in marks:
+        array = pc.replace_substring(array, mark, "")
+    return array
 
 
 _PREFIX = ("open", "sign1", "cur1", "sign2")
@@ -226,23 +278,19 @@ def _magnitude_powers(magnitude: np.ndarray) -> np.ndarray:
     used = magnitude != ""
     if used.any():
         table = magnitudes().exponents
-        words, inverse = np.unique(magnitude[used], return_inverse=True)
+        words, inverse = distinct_inverse(magnitude[used])
         powers[used] = np.array([table.get(_magnitude_key(w), 0) for w in words])[inverse]
     return powers
 
 
-def _known_currency(currency: np.ndarray) -> np.ndarray:
-    """Three capital letters match the pattern; only ISO 4217 codes count."""
-    tokens, inverse = np.unique(currency, return_inverse=True)
-    codes = iso_codes()
-    ok = np.array([t in codes or not _CODE_SHAPE.fullmatch(t) for t in tokens], dtype=bool)
-    return ok[inverse]
+def _known_code(token: str) -> bool:
+    """Three capital letters match the currency pattern; only ISO 4217 codes count."""
+    return token in iso_codes() or not _CODE_SHAPE.fullmatch(token)
 
 
-def _magnitude_allowed(magnitude: np.ndarray, currency: np.ndarray) -> np.ndarray:
-    currency_only = magnitudes().currency_only
-    only = [w for w in np.unique(magnitude) if w and _magnitude_key(w) in currency_only]
-    return ~(np.isin(magnitude, only) & (currency == ""))
+def _currency_only(word: str) -> bool:
+    """A magnitude word that only follows a currency ("5 Mio €"), not a bare number."""
+    return bool(word) and _magnitude_key(word) in magnitudes().currency_only
 
 
 def to_decimal(digits: str, shift: int, negative: bool) -> Decimal:
