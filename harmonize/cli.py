@@ -24,6 +24,7 @@ from harmonize import plan as plans
 from harmonize.options import Options
 from harmonize.pipeline import RunError, RunResult, run
 from harmonize.report import HTML_NAME, REPORT_NAME, UNRESOLVED_NAME
+from harmonize.safety import run_cli
 from harmonize.sources import SourceError
 
 EXIT_PARTIAL, EXIT_FAILED, EXIT_DRIFT = 1, 3, 4
@@ -60,6 +61,9 @@ def input_options(func: Any) -> Any:
                      "N-1 years ago to 100-N years ahead."),
         click.option("--country-codes", is_flag=True,
                      help="Write country columns as ISO 3166-1 alpha-2 codes."),
+        click.option("--keep-formulas", is_flag=True,
+                     help="Write text starting with = + - @ as it is; by default it gets a "
+                     "leading quote so a spreadsheet does not run it as a formula."),
         click.option("--undecided-as", type=click.Choice(["empty", "raw", "best"]),
                      default="empty", show_default=True,
                      help="What an undecided cell holds in the output."),
@@ -90,12 +94,12 @@ def _unit_targets(pairs: tuple[str, ...]) -> dict[str, str]:
 
 def _options(region: str | None, date_order: str | None, locale: str | None,
              missing_words: tuple[str, ...], units: tuple[str, ...], year_window: int,
-             country_codes: bool, undecided_as: str) -> Options:
+             country_codes: bool, keep_formulas: bool, undecided_as: str) -> Options:
     try:
         return Options(default_region=region.upper() if region else None,
                        date_order=date_order, locale=locale, unresolved_fill=undecided_as,
                        missing_words=missing_words, unit_targets=_unit_targets(units),
-                       year_window=year_window,
+                       year_window=year_window, neutralise_formulas=not keep_formulas,
                        engine={"text": {"country_codes": True}} if country_codes else {})
     except ValueError as exc:
         raise click.BadParameter(str(exc)) from None
@@ -313,5 +317,10 @@ def ambiguous(inputs: tuple[Path, ...], plan_file: Path | None, as_csv: bool,
     sys.exit(EXIT_PARTIAL if result.errors else 0)
 
 
+def entry() -> None:
+    """The console script: an unexpected error becomes one line and exit code 3."""
+    run_cli(main)
+
+
 if __name__ == "__main__":
-    main()
+    entry()

@@ -104,7 +104,11 @@ def _run_partition(part: pd.DataFrame, index: int, plan: TablePlan, options: Opt
     import csv
     evidence = TableEvidence.from_frame(_as_text(part), file=name)
     result = apply_table(evidence, plan, options)
-    result.frame.to_csv(f"{folder}/part-{index:06d}.csv", index=False, header=index == 0,
+    frame = result.frame
+    if options is None or options.neutralise_formulas:
+        from harmonize.safety import neutralise_frame
+        frame = neutralise_frame(frame).frame
+    frame.to_csv(f"{folder}/part-{index:06d}.csv", index=False, header=index == 0,
                         lineterminator="\n", quoting=csv.QUOTE_MINIMAL, encoding="utf-8")
     return {"rows": len(part), "sample": result if index == 0 else None,
             "counts": {c.plan.name: c.counts() for c in result.columns},

@@ -26,6 +26,8 @@ class Options:
                      ``100 - year_window`` years after it (default 80: 79 back, 20 ahead).
     missing_words:   extra words that mean "no value" in every column.
     engine:          per-engine options, engine name -> {key: value}.
+    neutralise_formulas: text cells a spreadsheet would run as formulas (=, +, -, @, tab,
+                     carriage return) are written with a leading quote in CSV and XLSX.
     """
 
     default_region: str | None = None
@@ -37,6 +39,7 @@ class Options:
     year_window: int = 80
     missing_words: tuple[str, ...] = ()
     engine: Mapping[str, Mapping[str, Any]] = field(default_factory=dict)
+    neutralise_formulas: bool = True
 
     def __post_init__(self) -> None:
         if self.unresolved_fill not in FILL_MODES:

@@ -10,7 +10,6 @@ from __future__ import annotations
 
 import os
 from collections.abc import Callable, Sequence
-from concurrent.futures import ProcessPoolExecutor
 from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any
@@ -24,6 +23,7 @@ from harmonize.decide import decide_table
 from harmonize.evidence import TableEvidence
 from harmonize.options import Options
 from harmonize.plan import Plan, TablePlan
+from harmonize.safety import failure_line, map_isolated, neutralise_frame
 from harmonize.sources import SourceError, Table, find_inputs, read_tables, write_table
 
 WORKBOOK_SUFFIXES = frozenset({".xlsx", ".xlsm", ".ods"})
@@ -213,11 +213,12 @@ def process_file(path: Path, rel: Path, out_dir: Path | None, options: Options,
         for table in tables:
             table_plan, result = harmonize_table(table, str(rel), options, plan)
             rel_out, writer = _output_names(rel, table, fmt)
-            pending.append((rel_out, writer, result.frame, table.sheet))
+            frame, notes = _safe_to_open(result.frame, writer, options)
+            pending.append((rel_out, writer, frame, table.sheet))
             entry, unresolved = rpt.table_entry(
                 result, input_name=str(rel), sheet=table.sheet,
                 output=str(rel_out) if out_dir else None, header_row=table.header_row,
-                warnings=table.warnings)
+                warnings=table.warnings + notes)
             outcome.entries.append(entry)
             outcome.unresolved += unresolved
             outcome.plans.append(table_plan)
@@ -229,7 +230,20 @@ def process_file(path: Path, rel: Path, out_dir: Path | None, options: Options,
         outcome.error = str(exc)
     except (OSError, ValueError) as exc:
         outcome.error = f"{rel}: {exc}"
+    except Exception as exc:  # one file's surprise must not stop the others
+        outcome.error = failure_line(rel, exc)
     return outcome
+
+
+def _safe_to_open(frame: pd.DataFrame, writer: str, options: Options
+                  ) -> tuple[pd.DataFrame, list[str]]:
+    """Text that a spreadsheet would run as a formula gets a leading quote (OWASP "CSV
+    Injection"); numbers, negative ones included, stay as they are. Parquet is data, not
+    a sheet, and is written as is."""
+    if writer == "parquet" or not options.neutralise_formulas:
+        return frame, []
+    safe = neutralise_frame(frame)
+    return safe.frame, safe.notes()
 
 
 def _relative_names(paths: Sequence[str | Path]) -> list[tuple[Path, Path]]:
@@ -267,11 +281,10 @@ def run(paths: Sequence[str | Path], out_dir: str | Path | None = None, *,
     args = [(p, r, out, options, plan, fmt, inputs, chunk_rows, dask) for p, r in files]
     outcomes = []
     if jobs > 1 and len(args) > 1:
-        with ProcessPoolExecutor(max_workers=jobs) as pool:
-            for result in pool.map(_process_star, args):
-                outcomes.append(result)
-                if on_file:
-                    on_file(result)
+        # a worker that dies (out of memory, a crash in native code) fails its file only
+        outcomes = map_isolated(_process_star, args, jobs, name_of=lambda a: str(a[1]),
+                                on_failure=lambda a, why: FileOutcome(str(a[1]), error=why),
+                                on_result=on_file)
     else:
         for arg in args:
             result = process_file(*arg, on_rows=on_rows)

@@ -19,6 +19,7 @@ import jsonschema
 
 from harmonize import __version__
 from harmonize.apply import ColumnResult, TableResult
+from harmonize.safety import neutralise_cell
 
 REPORT_NAME = "harmonize-report.json"
 UNRESOLVED_NAME = "unresolved.csv"
@@ -113,7 +114,8 @@ def unresolved_csv(rows: list[dict[str, Any]]) -> str:
     buffer = io.StringIO()
     writer = csv.writer(buffer, lineterminator="\n")
     writer.writerow(UNRESOLVED_FIELDS)
-    for row in rows:
-        writer.writerow([row["file"], row["sheet"] or "", row["row"], row["column"],
-                         row["value"], row["reason"], " | ".join(row["candidates"])])
+    for row in rows:  # raw payloads from the inputs land here: neutralise them too
+        writer.writerow([neutralise_cell(str(field)) for field in (
+            row["file"], row["sheet"] or "", row["row"], row["column"], row["value"],
+            row["reason"], " | ".join(row["candidates"]))])
     return buffer.getvalue()

@@ -26,6 +26,7 @@ from harmonize.engines.base import Outcome
 from harmonize.evidence import ColumnEvidence, TableEvidence
 from harmonize.options import Options
 from harmonize.plan import Plan, TablePlan
+from harmonize.safety import neutralise_frame
 from harmonize.sources import SourceError, _atomic_write, _name_columns, sniff_csv
 
 CHUNK_ROWS = 250_000
@@ -137,7 +138,10 @@ def harmonize_stream(path: Path, name: str, dest: Path | None, options: Options,
             result = apply_table(TableEvidence.from_frame(frame, file=name), table_plan, options)
             _accumulate(state, result)
             if handle is not None:
-                result.frame.to_csv(handle, index=False, header=state["done"] == 0,
+                frame = result.frame
+                if options.neutralise_formulas:
+                    frame = neutralise_frame(frame).frame
+                frame.to_csv(handle, index=False, header=state["done"] == 0,
                                     lineterminator="\n", quoting=csv.QUOTE_MINIMAL,
                                     encoding="utf-8")
             state["done"] += len(frame)
