@@ -52,9 +52,6 @@ def test_engines_survive_long_and_repetitive_cells() -> None:
     assert engine_failures(values) == []
 
 
-@pytest.mark.xfail(strict=True, reason="numbers engine: decimal.InvalidOperation escapes "
-                   "numbers_forms.to_decimal for two grouping dots and an exponent (found by "
-                   "bench/fuzz.py)")
 def test_numbers_engine_on_grouped_mantissa_with_exponent() -> None:
     from harmonize.engines import engine_named
 

@@ -110,6 +110,7 @@ def convert_amounts(values: Sequence[str], convention: Mapping[str, Any]) -> Con
     keep = convention.get("trailing_zeros", "drop") == "keep"
     chosen = choose_marks(forms, decimal_mark_of(convention), settled_marks(convention))
     digits = np.where(chosen == ",", forms.comma_digits, forms.dot_digits)
+    digits[chosen == ""] = "0"  # unreadable values ("1.2.3e1") have no digits to scale
     texts = plain_texts(digits, forms.shift, forms.negative, keep)
     codes = value_currencies(forms, convention)
     problem = _problems(forms, codes, convention)
