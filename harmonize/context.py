@@ -57,10 +57,14 @@ _NOT_A_COUNTRY = frozenset({"am", "an", "as", "at", "be", "by", "do", "go", "id"
 
 def territory_in_name(file: str) -> str | None:
     """A territory named by the first or last word of a file name ("sales_uk.csv",
-    "DE-orders.xlsx", "ventes France.csv"), else None."""
-    words = [w for w in re.split(r"[\s_\-.,()\[\]]+", PurePath(file).stem) if w]
-    for word in {words[0], words[-1]} if words else set():
-        if len(word) == 2 and not word.isupper() and word in _NOT_A_COUNTRY:
+    "DE-orders.xlsx", "ventes France.csv", "orders_it.csv"), else None. A lower-case
+    two-letter word that is usually English counts only as a suffix after _ or -."""
+    stem = PurePath(file).stem
+    words = [w for w in re.split(r"[\s_\-.,()\[\]]+", stem) if w]
+    suffix = re.search(r"[_\-]([A-Za-z]{2})$", stem)
+    for word in dict.fromkeys([words[-1], words[0]] if words else []):
+        if len(word) == 2 and not word.isupper() and word in _NOT_A_COUNTRY and not (
+                suffix and word == suffix.group(1) and len(words) > 1):
             continue
         if word.isalpha() and (len(word) > 3 or word.isupper() or len(word) == 2):
             found = territory_of(word)
@@ -90,10 +94,14 @@ def split_from(column: ColumnEvidence, min_groups: int = 2) -> Split | None:
     lookup = np.append(label_codes, -1)
     codes = lookup[column.codes]
     labelled = int((codes >= 0).sum())
-    if labelled < MIN_LABELLED * len(codes) or len(labels) > max(2, labelled // MIN_GROUP_ROWS):
+    if labelled < MIN_LABELLED * len(codes):
         return None
     labels_t = tuple(str(x) for x in labels)
-    return Split(column.name, labels_t, codes, tuple(_label_territory(x) for x in labels_t))
+    territories = tuple(_label_territory(x) for x in labels_t)
+    named = sum(t is not None for t in territories) >= COUNTRY_SHARE * len(labels_t)
+    if not named and len(labels) > max(2, labelled // MIN_GROUP_ROWS):
+        return None  # a country column splits even a small file; anything else needs rows
+    return Split(column.name, labels_t, codes, territories)
 
 
 class Context:

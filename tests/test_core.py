@@ -172,7 +172,8 @@ def test_why_lines_are_read_back() -> None:
     # ISO 3166-1 alpha-2 codes and CLDR English names (via babel)
     ("branch_sales_uk.csv", "GB"), ("filiale_bestellungen_de.csv", "DE"),
     ("DE-orders.xlsx", "DE"), ("ventes France.csv", "FR"), ("sales_IT.csv", "IT"),
-    ("sales_it.csv", None), ("orders_in_march.csv", None), ("merged_ledger.csv", None)])
+    ("sales_it.csv", "IT"), ("it_sales.csv", None), ("orders_in_march.csv", None),
+    ("merged_ledger.csv", None)])
 def test_territory_in_file_name(file: str, territory: str | None) -> None:
     from harmonize.context import territory_in_name
     assert territory_in_name(file) == territory
@@ -205,3 +206,21 @@ def test_frame_api_reads_typed_columns() -> None:
     kinds = {c["name"]: c["kind"] for c in entry["columns"]}
     assert kinds == {"when": "date", "stamp": "datetime", "amount": "number",
                      "paid": "boolean", "code": "identifier"}
+
+
+def test_small_country_column_still_splits() -> None:
+    # ISO 3166-1 alpha-2 codes (pycountry): three countries in four rows is a split
+    from harmonize.context import Context
+    frame = pd.DataFrame({"Country": ["AU", "IT", "SE", "AU"], "Phone": ["a", "b", "c", "d"]})
+    context = Context(TableEvidence.from_frame(frame))
+    assert context.country_split is not None and context.country_split.column == "Country"
+    # a near-unique column of amounts is no split
+    amounts = pd.DataFrame({"Amount": [str(i) for i in range(30)], "x": ["a"] * 30})
+    assert Context(TableEvidence.from_frame(amounts)).splits() == []
+
+
+def test_spaced_postcodes_are_identifiers() -> None:
+    # Swedish postcodes are written "NNN NN" (common practice, no source)
+    table = TableEvidence.from_frame(pd.DataFrame({"Postcode": ["114 55", "411 03", "211 19"]}))
+    from harmonize.context import Context
+    assert IdentifierEngine().propose(table.columns[0], Context(table)).kind == "identifier"

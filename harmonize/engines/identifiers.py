@@ -17,10 +17,13 @@ import numpy as np
 import pandas as pd
 
 from harmonize.context import Context
-from harmonize.engines.base import Converted, Decision, Outcome
+from harmonize.engines.base import Converted, Decision
 from harmonize.evidence import ColumnEvidence
 
 _CODE = r"^(?=.*\d)[A-Za-z0-9](?:[A-Za-z0-9\-_/.#]| (?! ))*$"  # one space between parts
+# The same test without look-arounds, so that it runs in Arrow (RE2) rather than value by
+# value: on trimmed text a single space must be followed by a code character.
+_CODE_CHARS = r"^[A-Za-z0-9](?:[A-Za-z0-9\-_/.#]| [A-Za-z0-9\-_/.#])*$"
 _HEADER = re.compile(
     r"(?:^|[\s_\-./(])(?:id|ids|code|codes|no|nr|num|number|nummer|numéro|numero|zip|"
     r"postal|postcode|postleitzahl|plz|cp|cap|sku|ean|gtin|upc|isbn|iban|account|konto|"
@@ -34,13 +37,19 @@ def header_names_code(header: str) -> bool:
     return bool(_HEADER.search(header.replace("ID", " id ")))
 
 
+def is_code(trimmed: pd.Series) -> np.ndarray:
+    """``_CODE`` on trimmed Arrow-backed text: code characters, with a digit somewhere."""
+    return (trimmed.str.match(_CODE_CHARS).to_numpy(dtype=bool)
+            & trimmed.str.contains(r"[0-9]").to_numpy(dtype=bool))
+
+
 def _shape(column: ColumnEvidence) -> dict[str, float]:
     """Weighted shares of the column's cells by shape."""
     text = pd.Series(column.values, dtype="str").str.strip()  # Arrow-backed: fast
     weights = column.counts.astype(float)
     total = max(weights.sum(), 1.0)
     digits = text.str.fullmatch(r"\d+").to_numpy(dtype=bool)
-    code = text.str.match(_CODE).to_numpy(dtype=bool)
+    code = is_code(text)
     lengths = text.str.len().to_numpy()
     lead0 = digits & (lengths >= 2) & text.str.startswith("0").to_numpy(dtype=bool)
     long = digits & (lengths >= LONG_DIGITS)
@@ -77,6 +86,9 @@ class IdentifierEngine:
                             f"of {int(shape['width'])}")
         if named and shape["lettered"] >= 0.9:
             evidence.append("the header names a code and values are letter-digit codes")
+        elif named and shape["code"] >= 0.9 and shape["digits"] < 0.5:
+            evidence.append("the header names a code and values are digit groups "
+                            "such as postcodes")
         if not evidence:
             return None
         confidence = 0.97 if len(evidence) > 1 or shape["lead0"] > 0.05 else 0.9
@@ -85,8 +97,7 @@ class IdentifierEngine:
                         evidence=tuple(evidence))
 
     def convert(self, values: Sequence[str], convention: Mapping[str, Any]) -> Converted:
-        result = Converted.empty(len(values))
+        result = Converted.empty(len(values))   # every value passed through
         trim = bool(convention.get("trim", True))
-        for i, raw in enumerate(values):
-            result.set(i, raw.strip() if trim else raw, Outcome.PASSED)
+        result.text = [raw.strip() for raw in values] if trim else list(values)
         return result
