@@ -409,3 +409,17 @@ def test_corpus_rates() -> None:
     assert rates["decidable_correct"] >= 0.995, total.failures[:10]
     assert rates["undecidable_listed"] >= 0.98, total.failures[:10]
     assert rates["decidable_listed"] <= 0.02, total.failures[:10]
+
+
+def test_spaced_degree_sign_and_gallons_from_the_file_name(tmp_path) -> None:
+    # NIST SP 811 B.9: t/°C as written; NIST HB 44 App. C: 1 US gal = 3.785411784 L
+    import harmonize
+    temps = tmp_path / "temps.csv"
+    temps.write_text("Store temp\n21 °C\n5 °C\n-3 °C\n7 ° C\n", encoding="utf-8")
+    tanks = tmp_path / "tanks_us.csv"
+    tanks.write_text("Tank volume\n4.4 gal\n34 gal\n", encoding="utf-8")
+    harmonize.run([temps, tanks], tmp_path / "out", fmt="csv")
+    assert (tmp_path / "out" / "temps.csv").read_text("utf-8").split() == [
+        "Store", "temp", "(°C)", "21", "5", "-3", "7"]
+    lines = (tmp_path / "out" / "tanks_us.csv").read_text("utf-8").splitlines()
+    assert lines[1:] == ["0.0166558118496", "0.128704000656"]  # 4.4 and 34 x 0.003785411784

@@ -198,7 +198,8 @@ def _column_customary(decided: Mapping[str, str]) -> str | None:
 
 
 def _region_customary(context: Context) -> str | None:
-    region = context.options.default_region
+    """US or imperial measures from the default region, else the file name's country."""
+    region = context.options.default_region or context.file_territory
     return CUSTOMARY_BY_TERRITORY.get(region.upper()) if region else None
 
 

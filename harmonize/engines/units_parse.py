@@ -47,9 +47,14 @@ COMPOUND_NEXT: dict[str, frozenset[str]] = {
 Piece = tuple[str, str | None]  # (number part as written, unit token or None)
 
 
+_SPACED_DEGREE = re.compile(r"°\s+(?=[CFKcfk]\b)")
+
+
 def fold_text(text: str) -> str:
-    """NFKC, then the numbers engine's folding of spaces, apostrophes and minus signs."""
-    return unicodedata.normalize("NFKC", text).translate(FOLD).strip()
+    """NFKC, then the numbers engine's folding of spaces, apostrophes and minus signs;
+    "21 ° C" is written "21 °C"."""
+    folded = unicodedata.normalize("NFKC", text).translate(FOLD).strip()
+    return _SPACED_DEGREE.sub("°", folded) if "°" in folded else folded
 
 
 @dataclass(frozen=True)
