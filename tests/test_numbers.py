@@ -391,3 +391,17 @@ class TestPlanFile:
             assert ENGINE.convert(values, before).text == ENGINE.convert(values, after).text
             assert list(ENGINE.convert(values, before).outcome) == list(
                 ENGINE.convert(values, after).outcome)
+
+
+def test_currency_without_minor_units_groups_its_digits() -> None:
+    # ISO 4217 gives JPY no minor unit (babel: get_currency_precision("JPY") == 0), so a
+    # yen amount's one mark can only group thousands
+    import pandas as pd
+    from babel.numbers import get_currency_precision
+
+    import harmonize
+    assert get_currency_precision("JPY") == 0
+    out, entry, _ = harmonize.harmonize_frame(
+        pd.DataFrame({"Net amount": ["￥35,984", "￥93,022", "￥3,738"]}))
+    assert out["Net amount"].tolist() == ["35984", "93022", "3738"]
+    assert entry["unresolved"] == []

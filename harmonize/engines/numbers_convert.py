@@ -10,11 +10,13 @@ from __future__ import annotations
 
 from collections.abc import Mapping, Sequence
 from decimal import Decimal
+from functools import cache
 from typing import Any
 
 import numpy as np
 import pyarrow as pa
 import pyarrow.compute as pc
+from babel import numbers as babel_numbers
 
 from harmonize.engines.base import Converted, Outcome
 from harmonize.engines.numbers_currency import ranked_candidates, resolve_alone
@@ -94,6 +96,24 @@ def plain_texts(digits: np.ndarray, shift: np.ndarray, negative: np.ndarray,
     return out
 
 
+def _whole_currencies(forms: Forms, codes: np.ndarray, chosen: np.ndarray) -> None:
+    """An amount in a currency without minor units (ISO 4217 exponent 0: JPY, KRW, ...)
+    has no decimal part, so its one ambiguous mark ("¥35,984") can only group digits."""
+    open_ = np.flatnonzero((forms.status == AMBIGUOUS) & (chosen == "") & (codes != "")
+                           & (codes != UNKNOWN))
+    for i in open_.tolist():
+        if _minor_digits(str(codes[i])) == 0:
+            chosen[i] = "," if forms.swapped_mark(i) == "." else "."
+
+
+@cache
+def _minor_digits(code: str) -> int | None:
+    try:
+        return babel_numbers.get_currency_precision(code)
+    except Exception:  # babel raises several types for codes it does not know
+        return None
+
+
 def value_currencies(forms: Forms, convention: Mapping[str, Any]) -> np.ndarray:
     """Per value: the ISO code its sign names ("" none, UNKNOWN if not resolved)."""
     symbols = convention.get("symbols") or {}
@@ -109,10 +129,11 @@ def convert_amounts(values: Sequence[str], convention: Mapping[str, Any]) -> Con
     result = Converted.empty(n)
     keep = convention.get("trailing_zeros", "drop") == "keep"
     chosen = choose_marks(forms, decimal_mark_of(convention), settled_marks(convention))
+    codes = value_currencies(forms, convention)
+    _whole_currencies(forms, codes, chosen)
     digits = np.where(chosen == ",", forms.comma_digits, forms.dot_digits)
     digits[chosen == ""] = "0"  # unreadable values ("1.2.3e1") have no digits to scale
     texts = plain_texts(digits, forms.shift, forms.negative, keep)
-    codes = value_currencies(forms, convention)
     problem = _problems(forms, codes, convention)
     converted = (chosen != "") & (problem == "")
     result.text = np.where(converted, texts, "").tolist()
