@@ -401,7 +401,10 @@ def test_currency_without_minor_units_groups_its_digits() -> None:
 
     import harmonize
     assert get_currency_precision("JPY") == 0
-    out, entry, _ = harmonize.harmonize_frame(
-        pd.DataFrame({"Net amount": ["￥35,984", "￥93,022", "￥3,738"]}))
+    frame = pd.DataFrame({"Net amount": ["￥35,984", "￥93,022", "￥3,738"]})
+    # the file name names Japan, so ￥ is JPY (alone it may also be CNY, which has cents)
+    out, entry, _ = harmonize.harmonize_frame(frame, name="stock_jp.csv")
     assert out["Net amount"].tolist() == ["35984", "93022", "3738"]
     assert entry["unresolved"] == []
+    out, entry, _ = harmonize.harmonize_frame(frame, name="stock.csv")
+    assert len(entry["unresolved"]) == 3
