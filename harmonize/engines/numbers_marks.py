@@ -130,6 +130,18 @@ class MarkDecision:
                 "settled_marks": self.settled}
 
 
+HINT_DECIDES = 0.93  # a named country's CLDR mark, applied when no value decides
+
+
+def _trusts_hint(context: Context | None) -> bool:
+    """Whether a named country (column, file name, region or locale) may decide the
+    decimal mark of values that do not decide it themselves. Off by default: "1.234" with
+    no value showing the mark is listed, since branches often export in another
+    notation than their country's; the option ``trust_locale_hint`` switches it on."""
+    return bool(context is not None and
+                context.options.for_engine("numbers").get("trust_locale_hint", False))
+
+
 def _flat_marks(tally: MarkTally, hint: str | None, trust_hint: bool) -> MarkDecision:
     """Decide one mark for a set of values (no groups)."""
     dot, comma = tally.deciding("."), tally.deciding(",")
@@ -159,8 +171,9 @@ def _flat_marks(tally: MarkTally, hint: str | None, trust_hint: bool) -> MarkDec
         return MarkDecision(None, hint, 0.99,
                             ["no value depends on the decimal mark (all read alike)"])
     if trust_hint and hint:
-        return MarkDecision(hint, hint, 0.85, [f"no value decides the decimal mark; the locale "
-                                               f"hint gives {mark_name(hint)}"])
+        return MarkDecision(hint, hint, HINT_DECIDES, [
+            f"no value decides the decimal mark and none contradicts {mark_name(hint)}, "
+            "the mark of the country the data names (CLDR): it is applied"])
     return MarkDecision(None, hint, 0.95, [
         f"{tally.values[AMBIGUOUS]} value(s) such as {tally.examples[AMBIGUOUS]!r} read "
         "differently with '.' or ',' as the decimal mark and no value decides: listed"])
@@ -186,8 +199,7 @@ def decide_marks(values: Sequence[str], counts: Sequence[int] | np.ndarray,
     """
     forms = analyse(list(values))
     tally = MarkTally.of(forms, np.asarray(counts, dtype=np.int64))
-    trust = bool(context and context.options.for_engine("numbers").get("trust_locale_hint"))
-    decision = _flat_marks(tally, _hint_mark(context), trust)
+    decision = _flat_marks(tally, _hint_mark(context), _trusts_hint(context))
     convention = {**decision.convention(), "decimal_mark": decision.mark}
     return convention, decision.confidence, tuple(decision.evidence)
 
@@ -229,7 +241,7 @@ def decide_column_marks(column: ColumnEvidence, forms: Forms, context: Context,
                          skip: np.ndarray) -> MarkDecision:
     tally = MarkTally.of(forms, column.counts, skip)
     hint = _column_hint(column, context)
-    trust = bool(context.options.for_engine("numbers").get("trust_locale_hint"))
+    trust = _trusts_hint(context)
     if tally.deciding(".") and tally.deciding(","):
         grouped = _grouped_marks(column, forms, context, trust)
         if grouped is not None:
@@ -263,6 +275,8 @@ def _grouped_marks(column: ColumnEvidence, forms: Forms, context: Context,
     per_label: dict[str, dict[str, Any]] = {}
     confidences, evidence = [], []
     by_mark: dict[str, list[str]] = {}
+    # a branch seen writing against its country's mark means countries decide nothing
+    trust = trust and not _contrary_branch(found, status_of)
     for label, territory, part in zip(found.split.labels, found.split.territories,
                                       found.parts, strict=True):
         hint = cldr_decimal_mark(territory) if territory else None
@@ -280,6 +294,15 @@ def _grouped_marks(column: ColumnEvidence, forms: Forms, context: Context,
     confidence = min(confidences, default=0.9) * plausibility
     return MarkDecision(None, None, confidence, evidence, per_label=per_label,
                         split=found.split)
+
+
+def _contrary_branch(found: Any, status_of: dict[str, int]) -> bool:
+    """Whether a group's own values decide a mark other than its country's CLDR mark."""
+    for territory, admitted in zip(found.split.territories, found.admitted, strict=True):
+        expected = cldr_decimal_mark(territory) if territory else None
+        if expected and len(admitted) == 1 and expected not in admitted:
+            return True
+    return False
 
 
 def _guard_foreign_countries(column: ColumnEvidence, forms: Forms, context: Context,
