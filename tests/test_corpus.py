@@ -74,18 +74,11 @@ def test_missing_masks_recognised(evaluation: Evaluation) -> None:
     assert ratio(total.masks_recognised, total.masks) >= 0.97
 
 
-@pytest.mark.xfail(strict=True, reason=(
-    "dates: a branch file (orders_nl.csv) or a Country column does not decide the day/month "
-    "order of a column whose values are all ambiguous (<= 12): every such cell is listed; "
-    "phones: a file named *_it.* gives no region"))
 def test_decidable_cells_correct(evaluation: Evaluation) -> None:
     total = _total(evaluation)   # acceptance target 99.5 %
     assert ratio(total.decidable_correct, total.decidable) >= 0.997
 
 
-@pytest.mark.xfail(strict=True, reason=(
-    "same cause as test_decidable_cells_correct: cells decided only by the named country "
-    "(file name or Country column) are listed"))
 def test_decidable_cells_rarely_listed(evaluation: Evaluation) -> None:
     total = _total(evaluation)   # acceptance target 2 %
     assert ratio(total.decidable_listed, total.decidable) <= 0.015

@@ -254,12 +254,18 @@ class TestCurrency:
         assert applied.text == ["5.5", "7.25", "3.1", "12"]
         assert applied.extra["currency"] == ["GBP", "EUR", "USD", ""]
 
-    def test_ambiguous_dollar_is_listed_without_context(self) -> None:
+    def test_ambiguous_dollar_converts_amounts_and_leaves_currency_unknown(self) -> None:
+        # CLDR (babel) writes USD, AUD, NZD, ... all as "$": the amount is certain, the
+        # currency is not, so the column reports no currency rather than listing cells
         applied = run(["$5.50", "$7.25"])
-        assert list(applied.outcome) == [Outcome.UNRESOLVED] * 2
-        result = ENGINE.convert(["$5.50"], applied.decision.convention)
-        assert "USD" in result.reasons[0] and "AUD" in result.reasons[0]
-        assert result.best[0] == "5.5"
+        assert list(applied.outcome) == [Outcome.CONVERTED] * 2
+        assert applied.decision.convention["currency"] is None
+        assert any("USD" in e and "AUD" in e for e in applied.decision.evidence)
+
+    def test_an_unknown_dollar_among_other_currencies_is_listed(self) -> None:
+        applied = run(["$5.50", "€7,25", "£3.10", "€1,10"])
+        i = 0  # "$5.50": its row's currency cannot be written in the companion column
+        assert applied.outcome[i] == Outcome.UNRESOLVED
 
     @pytest.mark.parametrize(("header", "others", "expected"), [
         ("Price (CAD)", [], "CAD"),

@@ -168,7 +168,9 @@ def _decide_currency(column: ColumnEvidence, forms: Forms, context: Context,
                 break
         else:
             evidence.append(f"{token!r} may stand for {', '.join(ranked_candidates(token)[:6])}; "
-                            "nothing in the data decides: its cells are listed")
+                            "nothing in the data decides: the amounts are converted and the "
+                            "currency is left unknown (where it differs by row, those cells "
+                            "are listed)")
     used = set(explicit) | set(symbols.values())
     used |= {code for m in per_label.values() for code in m.values()}
     if not used:

@@ -82,10 +82,10 @@ def plain_texts(digits: np.ndarray, shift: np.ndarray, negative: np.ndarray,
     """
     text = pa.array(digits.tolist(), type=pa.string())
     if not keep_trailing_zeros:
-        text = pc.replace_substring_regex(text, r"(\.\d*?)0+$", r"\1")
-        text = pc.replace_substring_regex(text, r"\.$", "")
-    text = pc.replace_substring_regex(text, r"^0+(\d)", r"\1")
-    text = pc.replace_substring_regex(text, r"^\.", "0.")
+        text = _rewrite_where(text, r"\.\d*0$", r"(\.\d*?)0+$", r"\1")
+        text = _rewrite_where(text, r"\.$", r"\.$", "")
+    text = _rewrite_where(text, r"^0\d", r"^0+(\d)", r"\1")
+    text = _rewrite_where(text, r"^\.", r"^\.", "0.")
     is_zero = np.asarray(pc.match_substring_regex(text, r"^0(\.0*)?$"), dtype=bool)
     out = np.asarray(text.to_numpy(zero_copy_only=False), dtype=object)
     signed = negative & ~is_zero
@@ -94,6 +94,14 @@ def plain_texts(digits: np.ndarray, shift: np.ndarray, negative: np.ndarray,
         value = to_decimal(digits[i], int(shift[i]), bool(negative[i]))
         out[i] = format_decimal_plain(value, keep_trailing_zeros)
     return out
+
+
+def _rewrite_where(text: pa.Array, found: str, pattern: str, replacement: str) -> pa.Array:
+    """``pattern`` replaced, skipping the pass when no value matches ``found`` (exactly the
+    values the pattern changes): a match is much cheaper than a rewrite."""
+    if not pc.any(pc.match_substring_regex(text, found)).as_py():
+        return text
+    return pc.replace_substring_regex(text, pattern, replacement)
 
 
 def _whole_currencies(forms: Forms, codes: np.ndarray, chosen: np.ndarray) -> None:
@@ -161,7 +169,10 @@ def _problems(forms: Forms, codes: np.ndarray, convention: Mapping[str, Any]) ->
         problem[named & (codes != column_code)] = "other-currency"
     elif mode == "none":
         problem[named] = "currency"
-    problem[codes == UNKNOWN] = "unknown-currency"
+    if not (mode == "single" and not column_code):
+        # one unresolved sign for the whole column ("$" alone) leaves the amounts right:
+        # the report says the currency is unknown; elsewhere the cell's currency matters
+        problem[codes == UNKNOWN] = "unknown-currency"
     if not convention.get("percent"):
         problem[forms.percent] = "percent"
     return problem

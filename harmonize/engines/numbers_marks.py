@@ -265,9 +265,11 @@ def _grouped_marks(column: ColumnEvidence, forms: Forms, context: Context,
                    trust: bool) -> MarkDecision | None:
     """Per-group marks when a column explains which rows use which notation."""
     status_of = dict(zip(column.values.tolist(), forms.status.tolist(), strict=True))
+    # typed workbook numbers are plain "1234.5" whatever the branch writes: no evidence
+    typed = {v for v, tag in column.typed.items() if tag == "number"}
 
     def admits(part: ColumnEvidence) -> frozenset[str]:
-        return _status_admits({status_of[v] for v in part.values.tolist()})
+        return _status_admits({status_of[v] for v in part.values.tolist() if v not in typed})
 
     found = explaining_split(column, context, admits, ALL_MARKS)
     if found is None:
@@ -283,7 +285,8 @@ def _grouped_marks(column: ColumnEvidence, forms: Forms, context: Context,
         if not part.total:
             continue
         sub = analyse(part.values)
-        decision = _flat_marks(MarkTally.of(sub, part.counts), hint, trust)
+        typed_here = np.array([v in typed for v in part.values.tolist()], dtype=bool)
+        decision = _flat_marks(MarkTally.of(sub, part.counts, typed_here), hint, trust)
         per_label[label] = {**decision.convention(), "likely_decimal_mark": hint}
         by_mark.setdefault(mark_name(decision.mark), []).append(label)
         confidences.append(decision.confidence)

@@ -19,8 +19,9 @@ Decidable, cell by cell (a demanding but fair reading):
   above 12, day equal to month, a typed cell), or the file names the country of the row
   (file name or Country column), or the column holds a value only the true order reads;
 * amounts: the value fixes which mark is decimal (two marks, a mark not followed by
-  exactly three digits, a leading "0,"), or the country is named, or another value of the
-  column fixes it; ``1.234`` alone in a file naming no country is undecidable;
+  exactly three digits, a leading "0,"), or another value of its group (the branch's
+  rows) fixes it, or it is in a currency without minor units (yen); ``1.234`` with no
+  such value is undecidable even where the country is named (issue #4);
 * phones: international form, or the row's country is named; else undecidable;
 * everything else (quantities, booleans, text, identifiers, datetimes with ISO order) is
   decidable by construction.
@@ -349,14 +350,22 @@ def amount_column(ctx: Context, *, ambiguous_only: bool = False) -> Column:
         if ctx.typed and not ambiguous_only and rng.random() < 0.3:
             cells.append(Cell(float(value), plain_decimal(value)))
             continue
-        ambiguous = _ambiguous_amount(text)
-        cells.append(Cell(text, plain_decimal(value), not ambiguous or ctx.named,
-                          by_context=ambiguous and ctx.named, si=None))
+        ambiguous = _ambiguous_amount(text) and not _whole_currency(text, branch)
+        # issue #4: "1.234" is decided by the values of its column or group, not by the
+        # country alone (branches often export in another notation than their country's)
+        cells.append(Cell(text, plain_decimal(value), not ambiguous, si=None))
         groups[branch.code].append(cells[-1])
     for group in groups.values():
         _decide_by_column(group)
     header = rng.choice(["Amount", "Net amount", "Total", "Unit price"])
     return Column(header, "number", _masked(ctx, cells))
+
+
+def _whole_currency(text: str, branch: Branch) -> bool:
+    """A currency amount in a currency without minor units (ISO 4217 exponent 0, via
+    babel) whose country is named: its one mark can only group digits."""
+    return (not text[:1].isdigit() or not text[-1:].isdigit()) and \
+        bn.get_currency_precision(branch.currency) == 0
 
 
 def _currency_text(value: Decimal, branch: Branch, grouped: str) -> str:
