@@ -91,7 +91,7 @@ class IdentifierEngine:
                             "such as postcodes")
         if not evidence:
             return None
-        confidence = 0.97 if len(evidence) > 1 or shape["lead0"] > 0.05 else 0.9
+        confidence = 0.98 if len(evidence) > 1 or shape["lead0"] > 0.05 else 0.95
         return Decision(kind="identifier", engine=self.name, fit=float(shape["code"]),
                         confidence=confidence, convention={"trim": True},
                         evidence=tuple(evidence))

@@ -359,4 +359,4 @@ def _confidence(normalised: list[str], counts: list[int]) -> float:
     """Text is the fallback: less sure when the values look like something else."""
     digits = sum(c for v, c in zip(normalised, counts, strict=True)
                  if sum(ch.isdigit() for ch in v) * 2 > len(v))
-    return 0.6 if digits * 2 > sum(counts) else 0.95
+    return 0.6 if digits * 2 > sum(counts) else 0.97
