@@ -127,7 +127,7 @@ def apply_column(column: ColumnEvidence, plan: ColumnPlan, context: Context) -> 
     engine = engine_named(plan.engine)
     fill = context.options.unresolved_fill
     extra_cols: dict[str, np.ndarray] = {}
-    row_present = ~is_missing[codes]
+    row_present = ~is_missing[codes] if is_missing.any() else np.ones(n, dtype=bool)
     for mask, convention, wanted in _conversions(plan, column, context, result.drift,
                                                  row_present):
         rows = mask & row_present
@@ -139,8 +139,12 @@ def apply_column(column: ColumnEvidence, plan: ColumnPlan, context: Context) -> 
         lookup_outcome = np.full(len(column.values), Outcome.MISSING, dtype=np.int8)
         lookup_text[wanted] = _fill(converted, values, fill)
         lookup_outcome[wanted] = converted.outcome
-        text[rows] = lookup_text[codes[rows]]
-        outcome[rows] = lookup_outcome[codes[rows]]
+        if rows.all():   # one convention for every row, none missing: a plain take
+            np.take(lookup_text, codes, out=text)
+            np.take(lookup_outcome, codes, out=outcome)
+        else:
+            text[rows] = lookup_text[codes[rows]]
+            outcome[rows] = lookup_outcome[codes[rows]]
         for suffix, extra in converted.extra.items():
             target = extra_cols.setdefault(suffix, np.full(n, "", dtype=object))
             lookup = np.full(len(column.values), "", dtype=object)

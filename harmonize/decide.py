@@ -9,7 +9,7 @@ import numpy as np
 from harmonize.context import Context
 from harmonize.engines import ENGINES, FALLBACK
 from harmonize.engines.base import Decision
-from harmonize.engines.missing import MissingRule, find_missing
+from harmonize.engines.missing import MissingRule, missing_with_mask
 from harmonize.evidence import ColumnEvidence, TableEvidence
 from harmonize.options import Options
 from harmonize.plan import ColumnPlan, TablePlan
@@ -71,8 +71,8 @@ def empty_plan(name: str, rule: MissingRule) -> ColumnPlan:
 
 
 def decide_column(column: ColumnEvidence, context: Context) -> ColumnPlan:
-    rule = find_missing(column, context.options)
-    present = column.subset(~rule.mask(column.values))
+    rule, missing = missing_with_mask(column, context.options)
+    present = column.subset(~missing) if missing.any() else column  # nothing to set aside
     if present.total == 0:
         return empty_plan(column.name, rule)
     decision = choose(present, context)

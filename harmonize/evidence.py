@@ -34,7 +34,8 @@ class ColumnEvidence:
         codes, uniques = pd.factorize(series.to_numpy(dtype=object), use_na_sentinel=False)
         counts = np.bincount(codes, minlength=len(uniques)).astype(np.int64)
         return cls(name=name, index=index, values=np.asarray(uniques, dtype=object),
-                   counts=counts, codes=codes.astype(np.int64), typed=dict(typed or {}),
+                   counts=counts, codes=codes.astype(np.int64, copy=False),
+                   typed=dict(typed or {}),
                    formats=Counter(formats or {}))
 
     @property
@@ -55,7 +56,10 @@ class ColumnEvidence:
             remap[:-1][keep] = np.arange(int(keep.sum()))
             new_codes = remap[self.codes]  # -1 stays -1 through remap[-1]
         values = self.values[keep]
-        typed = {v: t for v, t in self.typed.items() if v in set(values.tolist())}
+        typed: dict[str, str] = {}
+        if self.typed:   # the set of kept values once, not once per typed value
+            kept = set(values.tolist())
+            typed = {v: t for v, t in self.typed.items() if v in kept}
         return ColumnEvidence(self.name, self.index, values, self.counts[keep], new_codes,
                               typed, self.formats)
 

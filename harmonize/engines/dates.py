@@ -448,12 +448,7 @@ def _fast_reads(values: Sequence[str], s: _Settings) -> IsoValues:
     column of times (a date there is listed) and not a sentinel date (missing)."""
     if s.kind == "time":
         return IsoValues.none(len(values))
-    found = read_iso(list(values))
-    sentinel = np.isin(found.day, list(s.sentinels)) & found.read
-    if sentinel.any():
-        found.read[sentinel] = False
-        found.text[sentinel] = ""
-    return found
+    return read_iso(list(values), leave_days=s.sentinels)
 
 
 @dataclass(frozen=True)

@@ -12,7 +12,7 @@ everything else, impossible dates included, is left to the parser and its reason
 
 from __future__ import annotations
 
-from collections.abc import Sequence
+from collections.abc import Collection, Sequence
 from dataclasses import dataclass
 
 import numpy as np
@@ -36,17 +36,18 @@ class IsoValues:
     read: np.ndarray     # bool: an ISO date or date-time whose reading is certain
     timed: np.ndarray    # bool: it carries a time of day
     text: np.ndarray     # object: output text where ``read``, else ""
-    day: np.ndarray      # object: the date part (YYYY-MM-DD) where ``read``, else ""
 
     @classmethod
     def none(cls, n: int) -> IsoValues:
-        return cls(np.zeros(n, bool), np.zeros(n, bool), np.full(n, "", object),
-                   np.full(n, "", object))
+        return cls(np.zeros(n, bool), np.zeros(n, bool), np.full(n, "", object))
 
 
-def read_iso(values: Sequence[str], with_text: bool = True) -> IsoValues:
-    """Find the values written in the ISO extended shape and read them on whole arrays;
-    ``with_text=False`` skips writing the output (deciding needs only which ones read)."""
+def read_iso(values: Sequence[str], with_text: bool = True,
+             leave_days: Collection[str] = ()) -> IsoValues:
+    """Find the values written in the ISO extended shape and read them on whole arrays.
+
+    ``with_text=False`` skips writing the output (deciding needs only which ones read);
+    values whose date part is one of ``leave_days`` (sentinel dates) are left unread."""
     n = len(values)
     if n == 0:
         return IsoValues.none(0)
@@ -62,11 +63,14 @@ def read_iso(values: Sequence[str], with_text: bool = True) -> IsoValues:
     text = array.filter(pa.array(shaped))
     chars = _Chars(text)
     ok = chars.valid()
+    if leave_days:
+        day = pc.utf8_slice_codeunits(text, 0, DATE_LENGTH)
+        ok &= ~np.asarray(pc.is_in(day, pa.array(sorted(leave_days), pa.large_string())),
+                          dtype=bool)
     found.read[which] = ok
     found.timed[which] = ok & chars.timed
     if with_text:
         found.text[which[ok]] = _strings(_rewrite(text, chars))[ok]
-        found.day[which[ok]] = _strings(pc.utf8_slice_codeunits(text, 0, DATE_LENGTH))[ok]
     return found
 
 
@@ -90,24 +94,28 @@ class _Chars:
         index = np.minimum(self.start + position, len(self.data) - 1)
         return np.where(inside, self.data[index], 0)
 
-    def number(self, start: int, stop: int) -> np.ndarray:
-        """The digits at ``start:stop`` as an integer (0 past the value's end)."""
-        value = np.zeros(len(self.start), dtype=np.int64)
-        for position in range(start, stop):
-            digit = self.at(position).astype(np.int64) - ord("0")
-            value = value * 10 + np.clip(digit, 0, 9)
+    def _number(self, starts: np.ndarray, first: int, stop: int) -> np.ndarray:
+        """The digits at ``first:stop`` of values starting at ``starts`` (the shape puts
+        digits there for every value given)."""
+        value = np.zeros(len(starts), dtype=np.int32)
+        for position in range(first, stop):
+            value = value * 10 + (self.data[starts + position].astype(np.int32) - ord("0"))
         return value
 
     def valid(self) -> np.ndarray:
         """A real calendar day (year 1 on), a time of day, an offset the parser accepts."""
-        year, month, day = self.number(0, 4), self.number(5, 7), self.number(8, 10)
-        hour, minute = self.number(11, 13), self.number(14, 16)
-        second = np.where(self.at(16) == ord(":"), self.number(17, 19), 0)
+        year, month = self._number(self.start, 0, 4), self._number(self.start, 5, 7)
+        day = self._number(self.start, 8, 10)
         leap = (year % 4 == 0) & ((year % 100 != 0) | (year % 400 == 0))
         last_day = MONTH_DAYS[np.clip(month, 1, 12) - 1] + ((month == 2) & leap)
-        day_ok = (year >= 1) & (month >= 1) & (month <= 12) & (day >= 1) & (day <= last_day)
-        clock_ok = ~self.timed | ((hour <= 23) & (minute <= 59) & (second <= 59))
-        return day_ok & clock_ok & self._offset_ok()
+        ok = (year >= 1) & (month >= 1) & (month <= 12) & (day >= 1) & (day <= last_day)
+        timed = np.flatnonzero(self.timed)   # HH:MM always, then :SS when written
+        starts = self.start[timed]
+        clock_ok = (self._number(starts, 11, 13) <= 23) & (self._number(starts, 14, 16) <= 59)
+        seconds = np.flatnonzero(self.at(16)[timed] == ord(":"))
+        clock_ok[seconds] &= self._number(starts[seconds], 17, 19) <= 59
+        ok[timed] &= clock_ok
+        return ok & self._offset_ok()
 
     def _offset_ok(self) -> np.ndarray:
         """A written offset ``±HH:MM`` is within ±18:00 with minutes below 60."""
@@ -129,11 +137,12 @@ class _Chars:
 def _rewrite(text: pa.Array, chars: _Chars) -> pa.Array:
     """The parser's output text: ``T`` between date and time, seconds always written,
     ``Z`` as ``+00:00``; a date alone stays as written."""
-    if chars.timed.any():
-        joined = pc.binary_join_element_wise(pc.utf8_slice_codeunits(text, 0, DATE_LENGTH),
-                                             pc.utf8_slice_codeunits(text, DATE_LENGTH + 1),
-                                             pa.scalar("T", pa.large_string()))
-        text = pc.if_else(pa.array(chars.timed), joined, text)
+    spaced = chars.timed & (chars.at(DATE_LENGTH) == ord(" "))
+    if spaced.any():   # same lengths: write the "T" into a copy of the bytes
+        data = chars.data.copy()
+        data[chars.start[spaced] + DATE_LENGTH] = ord("T")
+        text = pa.LargeStringArray.from_buffers(len(text), text.buffers()[1],
+                                                pa.py_buffer(data), offset=text.offset)
     short = chars.timed & (chars.at(16) != ord(":"))
     if short.any():   # hours and minutes only: the parser writes the seconds
         text = pc.replace_substring_regex(text, r"^([0-9-]{10}T[0-9]{2}:[0-9]{2})($|[Z+-])",

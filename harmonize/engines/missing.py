@@ -54,7 +54,10 @@ class MissingRule:
 
     def mask(self, values: np.ndarray) -> np.ndarray:
         """True for each distinct raw value that is missing under this rule."""
-        folded = fold_values(values)
+        return self.mask_folded(fold_values(values))
+
+    def mask_folded(self, folded: pd.Series) -> np.ndarray:
+        """``mask`` of values already folded by ``fold_values``."""
         return (folded.eq("") | folded.isin(self.tokens)).to_numpy(dtype=bool)
 
 
@@ -88,6 +91,12 @@ def _zero_digits(folded: pd.Series) -> np.ndarray:
 
 def find_missing(column: ColumnEvidence, options: Options | None = None) -> MissingRule:
     """Decide which of a column's distinct values mean "no value"."""
+    return missing_with_mask(column, options)[0]
+
+
+def missing_with_mask(column: ColumnEvidence, options: Options | None = None
+                      ) -> tuple[MissingRule, np.ndarray]:
+    """``find_missing`` and its ``mask`` of the column's values (folded once for both)."""
     options = options or Options()
     folded = fold_values(column.values)
     words = _words(options)
@@ -106,7 +115,8 @@ def find_missing(column: ColumnEvidence, options: Options | None = None) -> Miss
     rest = ~(folded.isin(reasons) | folded.eq("")).to_numpy()
     for token in _sentinels(folded[rest], column.counts[rest]):
         reasons[token] = "sentinel number far outside the column's other values"
-    return MissingRule(frozenset(reasons), reasons)
+    rule = MissingRule(frozenset(reasons), reasons)
+    return rule, rule.mask_folded(folded)
 
 
 def missing_counts(column: ColumnEvidence, rule: MissingRule) -> dict[str, int]:

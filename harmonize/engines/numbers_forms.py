@@ -139,8 +139,11 @@ class _Affixes:
                 for name in names:
                     self.distinct[name][k] = found.group(name) or ""
         self.ok = ok[self.inverse]
-        self.parts = {name: part[self.inverse] for name, part in self.distinct.items()}
         self.has = {name: (part != "")[self.inverse] for name, part in self.distinct.items()}
+
+    def part(self, name: str) -> np.ndarray:
+        """Each value's part ``name`` as written ("" when absent)."""
+        return self.distinct[name][self.inverse]
 
     def spread(self, name: str, function: Any, dtype: Any) -> np.ndarray:
         """``function`` of each value's part, computed once per distinct affix."""
@@ -190,11 +193,11 @@ def analyse(values: list[str] | np.ndarray) -> Forms:
     matched, pre_text, num, post_text = _split(text)
     before = _Affixes(pre_text, prefix_regex(), _PREFIX)
     after = _Affixes(post_text, suffix_regex(), _SUFFIX)
-    pre, post, has = before.parts, after.parts, before.has | after.has
+    has = before.has | after.has
     n_signs = has["sign1"].astype(int) + has["sign2"] + has["trail"] + has["open"]
-    currency = np.where(has["cur1"], pre["cur1"], post["cur2"])
+    currency = np.where(has["cur1"], before.part("cur1"), after.part("cur2"))
     named = has["cur1"] | has["cur2"]   # currency != ""
-    magnitude = post["mag"]
+    magnitude = after.part("mag")
     known = np.where(has["cur1"], before.spread("cur1", _known_code, bool),
                      after.spread("cur2", _known_code, bool))
     valid = (matched & before.ok & after.ok & (has["open"] == has["close"]) & (n_signs <= 1)
@@ -227,12 +230,17 @@ def analyse(values: list[str] | np.ndarray) -> Forms:
 
     exp = after.spread("exp", lambda e: int(e[1:]) if e else 0, np.int64)
     shift = exp + _magnitude_powers(magnitude)
-    negative = (pre["sign1"] == "-") | (pre["sign2"] == "-") | has["trail"] | has["open"]
+    minus = before.spread("sign1", _is_minus, bool) | before.spread("sign2", _is_minus, bool)
+    negative = minus | has["trail"] | has["open"]
     return Forms(text=_strings(text), body=_strings(body), status=status, dot_digits=dot_np,
                  comma_digits=comma_np, shift=shift, negative=negative, percent=has["pct"],
                  currency=currency, bare_digits=bare, magnitude=magnitude,
                  length=np.asarray(pc.utf8_length(text), dtype=np.int64),
                  zero_first=np.asarray(pc.starts_with(text, "0"), dtype=bool))
+
+
+def _is_minus(sign: str) -> bool:
+    return sign == "-"
 
 
 def _split(text: pa.Array) -> tuple[np.ndarray, pa.Array, pa.Array, pa.Array]:
@@ -254,9 +262,11 @@ def _split(text: pa.Array) -> tuple[np.ndarray, pa.Array, pa.Array, pa.Array]:
 
 
 def _without(array: pa.Array, marks: str) -> pa.Array:
-    """The strings with every one of ``marks`` removed (literal passes: no regex)."""
+    """The strings with every one of ``marks`` removed (literal passes: no regex; a
+    mark no value holds costs one scan, not a rewrite)."""
     for mark in marks:
-        array = pc.replace_substring(array, mark, "")
+        if pc.any(pc.match_substring(array, mark)).as_py():
+            array = pc.replace_substring(array, mark, "")
     return array
 
 
