@@ -80,12 +80,26 @@ def _label_territory(label: str) -> str | None:
     return found
 
 
+def _too_many_labels(values: np.ndarray, limit: int) -> bool:
+    """More than ``limit`` distinct trimmed, non-blank values, seen from the first blocks
+    (a near-unique column is told apart without trimming all its values)."""
+    seen: set[str] = set()
+    for start in range(0, len(values), 256):
+        seen.update(str(v).strip() for v in values[start:start + 256].tolist())
+        seen.discard("")
+        if len(seen) > limit:
+            return True
+    return False
+
+
 def split_from(column: ColumnEvidence, min_groups: int = 2) -> Split | None:
     """Group rows by a column's trimmed values, or None when it cannot be a split.
 
     ``min_groups=1`` accepts a column with one label (one branch's export names its
     country on every row: no split, but still a locale hint)."""
     if column.codes is None or len(column.values) == 0:
+        return None
+    if len(column.values) > MAX_GROUPS and _too_many_labels(column.values, MAX_GROUPS):
         return None
     trimmed = pd.Series(column.values, dtype=object).str.strip()
     label_codes, labels = pd.factorize(trimmed.replace("", None), use_na_sentinel=True)

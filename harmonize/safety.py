@@ -277,7 +277,20 @@ def neutralise_frame(frame: pd.DataFrame) -> Neutralised:
     return result
 
 
+def _has_trigger(column: pd.Series) -> bool:
+    """Whether any cell starts with a formula trigger: one Arrow scan, no Python loop."""
+    import pyarrow as pa
+    import pyarrow.compute as pc
+    try:
+        text = pa.array(column.to_numpy(dtype=object), type=pa.string(), from_pandas=True)
+    except (pa.ArrowInvalid, pa.ArrowTypeError):
+        return True  # not all text: take the careful path
+    return bool(pc.any(pc.match_substring_regex(text, r"^[=+\-@\t\r]")).as_py())
+
+
 def _neutralise_column(column: pd.Series) -> tuple[pd.Series, int]:
+    if not _has_trigger(column):
+        return column, 0
     codes, uniques = pd.factorize(column, use_na_sentinel=True)
     texts = np.asarray(uniques, dtype=object)
     if not len(texts):
