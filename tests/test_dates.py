@@ -1,7 +1,7 @@
 """The dates engine against published references: ISO 8601 and RFC 3339 examples,
 ECMA-376 spreadsheet serials, the Gregorian calendar (Python's ``calendar``/``datetime``)
-and CLDR month names and date patterns (babel). Check-value ids refer to
-/work/shared/checkvalues.md."""
+and CLDR month names and date patterns (babel). Check-value ids (D1, U11, ...) refer to
+the reference values of ISO 8601, RFC 3339 and ECMA-376 named beside each check."""
 
 from __future__ import annotations
 

@@ -1,6 +1,6 @@
 """Phones engine, checked against ITU-T E.164 facts and phonenumbers' own example numbers.
 
-Reference values: /work/shared/checkvalues.md §A4 (computed with phonenumbers 9.0.43).
+Reference values: ITU-T E.164 length limits and phonenumbers 9.0.43 example numbers.
 """
 
 from __future__ import annotations

@@ -11,7 +11,7 @@ no country at all, or workbooks with two or three sheets whose cells are partly 
 Every cell carries the output text an outside checker expects ("" when it is a missing
 value) and whether the data decides it. Truth comes from outside the project: Python's
 datetime for dates, babel (CLDR) for every locale rendering, Decimal arithmetic with the
-NIST factors of /work/shared/checkvalues.md for units, phonenumbers for E.164.
+NIST factors (SP 811 App. B, HB 44 App. C) for units, phonenumbers for E.164.
 
 Decidable, cell by cell (a demanding but fair reading):
 
