@@ -189,11 +189,8 @@ def _process_stream(path: Path, rel: Path, out_dir: Path | None, options: Option
         column["counts"] = found["counts"].get(column["name"], column["counts"])
         column["missing"] = found["missing"].get(column["name"], {})
     outcome.entries.append(entry)
-    outcome.unresolved += [
-        {"file": str(rel), "sheet": None, "row": 2 + cell["offset"], "column": name,
-         "value": cell["value"], "reason": cell["reason"],
-         "candidates": list(cell["candidates"]), "best": cell.get("best")}
-        for name, cells in found["unresolved"].items() for cell in cells]
+    outcome.unresolved += [rpt.unresolved_entry(cell, file=str(rel), sheet=None, column=name)
+                           for name, cells in found["unresolved"].items() for cell in cells]
     outcome.plans.append(found["plan"])
     outcome.outputs.append(str(rel_out))
 

@@ -91,12 +91,19 @@ def table_entry(result: TableResult, *, input_name: str, sheet: str | None,
              "rows": len(result.frame), "header_row": header_row,
              "columns": [column_entry(c) for c in result.columns],
              "warnings": list(warnings or []), "drift": list(result.drift)}
-    unresolved = [
-        {"file": input_name, "sheet": sheet, "row": header_row + 1 + cell["offset"],
-         "column": column.plan.name, "value": cell["value"], "reason": cell["reason"],
-         "candidates": list(cell["candidates"]), "best": cell.get("best")}
-        for column in result.columns for cell in column.unresolved]
+    unresolved = [unresolved_entry(cell, file=input_name, sheet=sheet, column=column.plan.name,
+                                   header_row=header_row)
+                  for column in result.columns for cell in column.unresolved]
     return entry, unresolved
+
+
+def unresolved_entry(cell: dict[str, Any], *, file: str, sheet: str | None, column: str,
+                     header_row: int = 1) -> dict[str, Any]:
+    """One undecided cell as the report lists it; ``cell["offset"]`` counts data rows
+    from 0, ``row`` is the spreadsheet row (header = ``header_row``)."""
+    return {"file": file, "sheet": sheet, "row": header_row + 1 + cell["offset"],
+            "column": column, "value": cell["value"], "reason": cell["reason"],
+            "candidates": list(cell["candidates"]), "best": cell.get("best")}
 
 
 def summarise(files: list[dict[str, Any]]) -> dict[str, int]:

@@ -36,7 +36,7 @@ from functools import lru_cache
 
 import numpy as np
 
-from harmonize.engines.dates_parse import OPEN, Parsed, plausible_under, reading
+from harmonize.engines.dates_parse import OPEN, Parsed, reading
 
 DECIDE = 0.98          # posterior needed to convert cells the order alone decides
 SLIP = 0.02            # chance that one distinct value is a slip against the column's order
@@ -358,7 +358,3 @@ def format_hints(formats: Counter[str], orders: Sequence[str], hints: Hints) -> 
     elif len(found) > 1:
         hints.notes.append("the workbook number formats disagree: "
                            + ", ".join(f"{o} ×{n}" for o, n in found.most_common()))
-
-
-def plausible_orders(p: Parsed, orders: Sequence[str]) -> list[str]:
-    return [o for o in orders if plausible_under(p, o)]

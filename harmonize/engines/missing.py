@@ -117,13 +117,3 @@ def missing_with_mask(column: ColumnEvidence, options: Options | None = None
         reasons[token] = "sentinel number far outside the column's other values"
     rule = MissingRule(frozenset(reasons), reasons)
     return rule, rule.mask_folded(folded)
-
-
-def missing_counts(column: ColumnEvidence, rule: MissingRule) -> dict[str, int]:
-    """Raw text (trimmed) -> cells, for the report."""
-    mask = rule.mask(column.values)
-    tally: dict[str, int] = {}
-    for raw, count in zip(column.values[mask].tolist(), column.counts[mask].tolist()):
-        key = raw.strip()
-        tally[key] = tally.get(key, 0) + int(count)
-    return dict(sorted(tally.items(), key=lambda kv: -kv[1]))
