@@ -353,13 +353,13 @@ def _column_text(column: pd.Series) -> tuple[np.ndarray, dict[str, str]]:
         text, tag = column.dt.strftime(pattern), ("date" if pattern == "%Y-%m-%d" else
                                                   "datetime")
         if column.dt.tz is not None:
-            text = column.map(lambda t: t.isoformat() if pd.notna(t) else "")
+            text = _per_distinct(column, lambda t: t.isoformat())
     elif pd.api.types.is_integer_dtype(column):
         text, tag = column.astype("Int64").astype(str), "number"
     elif pd.api.types.is_float_dtype(column):
         # shortest round-trip digits, never scientific notation: 1e-05 -> 0.00001
-        text = column.map(lambda v: np.format_float_positional(v, unique=True, trim="-")
-                          if pd.notna(v) else "")
+        text = _per_distinct(column, lambda v: np.format_float_positional(v, unique=True,
+                                                                          trim="-"))
         tag = "number"
     else:
         text = column.astype(object).where(~missing, "").map(str)
@@ -367,6 +367,13 @@ def _column_text(column: pd.Series) -> tuple[np.ndarray, dict[str, str]]:
     values[missing] = ""
     tags = dict.fromkeys(pd.unique(values[~missing]).tolist(), tag) if tag else {}
     return values, tags
+
+
+def _per_distinct(column: pd.Series, render: Callable[[Any], str]) -> pd.Series:
+    """``render`` each distinct non-missing value once, then map back onto the rows."""
+    codes, uniques = pd.factorize(column, use_na_sentinel=True)
+    texts = np.array([render(u) for u in uniques] + [""], dtype=object)
+    return pd.Series(texts[codes], index=column.index, dtype=object)
 
 
 def harmonize_frame(frame: pd.DataFrame, *, options: Options | None = None,
