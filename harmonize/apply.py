@@ -15,6 +15,7 @@ from typing import Any
 import numpy as np
 import pandas as pd
 
+from harmonize.arrowcsv import CodedColumn, CodedFrame
 from harmonize.context import Context
 from harmonize.engines import engine_named
 from harmonize.engines.base import Converted, Outcome, companions_of
@@ -28,18 +29,40 @@ EXAMPLES = 5
 
 @dataclass
 class ColumnResult:
+    """A column's output, coded: row i's text is ``lookup[codes[i]]`` and its outcome
+    ``lookup_outcome[codes[i]]``. One lookup entry per (distinct value, convention) pair,
+    entry 0 for missing cells, so writers and the formula guard work on distinct texts."""
+
     plan: ColumnPlan
     output_name: str
-    text: np.ndarray                      # output text per row (object)
-    outcome: np.ndarray                   # Outcome per row (int8)
-    extra: dict[str, np.ndarray] = field(default_factory=dict)  # companion columns
+    lookup: np.ndarray                    # output text per entry (object)
+    lookup_outcome: np.ndarray            # Outcome per entry (int8)
+    codes: np.ndarray                     # entry per row (int64)
+    extra_lookup: dict[str, np.ndarray] = field(default_factory=dict)  # companions, by name
     unresolved: list[dict[str, Any]] = field(default_factory=list)  # row offset, value, ...
     examples: list[tuple[str, str]] = field(default_factory=list)
     missing: dict[str, int] = field(default_factory=dict)
     drift: list[str] = field(default_factory=list)
 
+    @property
+    def text(self) -> np.ndarray:
+        return self.lookup[self.codes]
+
+    @property
+    def outcome(self) -> np.ndarray:
+        return self.lookup_outcome[self.codes]
+
+    @property
+    def extra(self) -> dict[str, np.ndarray]:
+        return {name: values[self.codes] for name, values in self.extra_lookup.items()}
+
+    def coded(self) -> list[tuple[str, np.ndarray]]:
+        """(output column name, per-entry text) for this column and its companions."""
+        return [(self.output_name, self.lookup), *self.extra_lookup.items()]
+
     def counts(self) -> dict[str, int]:
-        tally = np.bincount(self.outcome, minlength=len(Outcome))
+        per_entry = np.bincount(self.codes, minlength=len(self.lookup))
+        tally = np.bincount(self.lookup_outcome, weights=per_entry, minlength=len(Outcome))
         return {o.label: int(tally[o]) for o in Outcome}
 
 
@@ -117,17 +140,18 @@ def apply_column(column: ColumnEvidence, plan: ColumnPlan, context: Context) -> 
     codes = column.codes if column.codes is not None else np.zeros(0, dtype=np.int64)
     rule = MissingRule(frozenset(plan.missing))
     is_missing = rule.mask(column.values)
-    text = np.full(n, "", dtype=object)
-    outcome = np.full(n, Outcome.MISSING, dtype=np.int8)
-    result = ColumnResult(plan, plan.output_name or plan.name, text, outcome)
+    result = ColumnResult(plan, plan.output_name or plan.name, np.array([""], dtype=object),
+                          np.array([Outcome.MISSING], dtype=np.int8), np.zeros(n, np.int64))
     result.missing = {str(v).strip(): int(c) for v, c in
                       zip(column.values[is_missing], column.counts[is_missing])}
     if plan.kind == "empty":
         return result
     engine = engine_named(plan.engine)
     fill = context.options.unresolved_fill
-    extra_cols: dict[str, np.ndarray] = {}
+    texts, outcomes = [result.lookup], [result.lookup_outcome]
+    extras: dict[str, list[tuple[int, list[str]]]] = {}  # companion -> (first entry, texts)
     row_present = ~is_missing[codes] if is_missing.any() else np.ones(n, dtype=bool)
+    size = 1
     for mask, convention, wanted in _conversions(plan, column, context, result.drift,
                                                  row_present):
         rows = mask & row_present
@@ -135,27 +159,28 @@ def apply_column(column: ColumnEvidence, plan: ColumnPlan, context: Context) -> 
             rows &= np.isin(codes, wanted)  # typed and text values are converted apart
         values = column.values[wanted]
         converted = engine.convert(values.tolist(), convention)
-        lookup_text = np.full(len(column.values), "", dtype=object)
-        lookup_outcome = np.full(len(column.values), Outcome.MISSING, dtype=np.int8)
-        lookup_text[wanted] = _fill(converted, values, fill)
-        lookup_outcome[wanted] = converted.outcome
+        entry = np.zeros(len(column.values), dtype=np.int64)
+        entry[wanted] = np.arange(size, size + len(wanted))
         if rows.all():   # one convention for every row, none missing: a plain take
-            np.take(lookup_text, codes, out=text)
-            np.take(lookup_outcome, codes, out=outcome)
+            result.codes = entry[codes]
         else:
-            text[rows] = lookup_text[codes[rows]]
-            outcome[rows] = lookup_outcome[codes[rows]]
+            result.codes[rows] = entry[codes[rows]]
+        texts.append(np.array(_fill(converted, values, fill), dtype=object))
+        outcomes.append(np.asarray(converted.outcome, dtype=np.int8))
         for suffix, extra in converted.extra.items():
-            target = extra_cols.setdefault(suffix, np.full(n, "", dtype=object))
-            lookup = np.full(len(column.values), "", dtype=object)
-            lookup[wanted] = extra
-            target[rows] = lookup[codes[rows]]
+            extras.setdefault(suffix, []).append((size, list(extra)))
+        size += len(wanted)
         _note_unresolved(result, converted, wanted, column, codes, rows)
         _note_examples(result, converted, wanted, column)
+    result.lookup = np.concatenate(texts)
+    result.lookup_outcome = np.concatenate(outcomes)
     for suffix in companions_of(engine, plan.convention):
-        extra_cols.setdefault(suffix, np.full(n, "", dtype=object))
-    for suffix, values_out in extra_cols.items():
-        result.extra[f"{result.output_name} {suffix}"] = values_out
+        extras.setdefault(suffix, [])
+    for suffix, pieces in extras.items():
+        lookup = np.full(size, "", dtype=object)
+        for first, values_out in pieces:
+            lookup[first:first + len(values_out)] = values_out
+        result.extra_lookup[f"{result.output_name} {suffix}"] = lookup
     return result
 
 
@@ -182,30 +207,42 @@ def _note_examples(result: ColumnResult, converted: Converted, wanted: np.ndarra
         result.examples.append((str(column.values[wanted[i]]), converted.text[i]))
 
 
-@dataclass
 class TableResult:
-    plan: TablePlan
-    frame: pd.DataFrame            # output, same columns in the same order (+ companions)
-    columns: list[ColumnResult]
-    drift: list[str] = field(default_factory=list)
+    """A table's output: the plan, each column's coded result, and the output frame
+    (same columns in the same order, plus companions), built when first asked for."""
+
+    def __init__(self, plan: TablePlan, columns: list[ColumnResult], n_rows: int,
+                 drift: list[str] | None = None) -> None:
+        self.plan = plan
+        self.columns = columns
+        self.n_rows = n_rows
+        self.drift = drift or []
+        self._frame: pd.DataFrame | None = None
+
+    def coded_frame(self) -> CodedFrame:
+        """The output as distinct texts plus row codes per column (what writers take)."""
+        pairs = [(name, CodedColumn(lookup, column.codes)) for column in self.columns
+                 for name, lookup in column.coded()]
+        return CodedFrame([n for n, _ in pairs], [c for _, c in pairs], self.n_rows)
+
+    @property
+    def frame(self) -> pd.DataFrame:
+        if self._frame is None:
+            self._frame = self.coded_frame().frame()
+        return self._frame
 
 
 def apply_table(evidence: TableEvidence, plan: TablePlan,
                 options: Options | None = None) -> TableResult:
     context = Context(evidence, options)
     results, drift = [], []
-    out: dict[str, np.ndarray] = {}
     for column in evidence.columns:
         column_plan = plan.column(column.name)
         if column_plan is None:
             drift.append(f"column {column.name!r} is not in the plan; passed through as text")
             column_plan = ColumnPlan(column.name, "text", "text", 0.0, {"trim": False})
-        result = apply_column(column, column_plan, context)
-        results.append(result)
-        out[result.output_name] = result.text
-        out.update(result.extra)
+        results.append(apply_column(column, column_plan, context))
     for column_plan in plan.columns:
         if column_plan.name not in {c.name for c in evidence.columns}:
             drift.append(f"column {column_plan.name!r} of the plan is absent from the data")
-    frame = pd.DataFrame(out, dtype=object) if out else pd.DataFrame(index=range(0))
-    return TableResult(plan=plan, frame=frame, columns=results, drift=drift)
+    return TableResult(plan, results, evidence.n_rows, drift)

@@ -101,15 +101,15 @@ def outcome_counts(ddf: dd.DataFrame, plan: TablePlan, options: Options | None =
 def _run_partition(part: pd.DataFrame, index: int, plan: TablePlan, options: Options | None,
                    name: str, folder: str) -> dict[str, Any]:
     """Convert one partition, write it as part-<index>.csv, return its counts and cells."""
-    import csv
+    from harmonize.arrowcsv import write_csv
     evidence = TableEvidence.from_frame(_as_text(part), file=name)
     result = apply_table(evidence, plan, options)
-    frame = result.frame
+    coded = result.coded_frame()
     if options is None or options.neutralise_formulas:
-        from harmonize.safety import neutralise_frame
-        frame = neutralise_frame(frame).frame
-    frame.to_csv(f"{folder}/part-{index:06d}.csv", index=False, header=index == 0,
-                        lineterminator="\n", quoting=csv.QUOTE_MINIMAL, encoding="utf-8")
+        from harmonize.safety import neutralise_coded
+        coded = neutralise_coded(coded).frame
+    with open(f"{folder}/part-{index:06d}.csv", "wb") as handle:
+        write_csv(coded, handle, header=index == 0)
     return {"rows": len(part), "sample": result if index == 0 else None,
             "counts": {c.plan.name: c.counts() for c in result.columns},
             "missing": {c.plan.name: c.missing for c in result.columns},

@@ -38,6 +38,14 @@ class ColumnEvidence:
                    typed=dict(typed or {}),
                    formats=Counter(formats or {}))
 
+    @classmethod
+    def from_codes(cls, name: str, index: int, values: np.ndarray,
+                   codes: np.ndarray) -> ColumnEvidence:
+        """From a column already dictionary-encoded (every value used, first-seen order,
+        as ``from_series`` would find them)."""
+        counts = np.bincount(codes, minlength=len(values)).astype(np.int64)
+        return cls(name=name, index=index, values=values, counts=counts, codes=codes)
+
     @property
     def total(self) -> int:
         """Number of cells this evidence covers (rows set aside are not counted)."""

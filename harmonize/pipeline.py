@@ -19,11 +19,12 @@ import pandas as pd
 
 from harmonize import report as rpt
 from harmonize.apply import TableResult, apply_table
+from harmonize.arrowcsv import CodedFrame
 from harmonize.decide import decide_table
-from harmonize.evidence import TableEvidence
+from harmonize.evidence import ColumnEvidence, TableEvidence
 from harmonize.options import Options
 from harmonize.plan import Plan, TablePlan
-from harmonize.safety import failure_line, map_isolated, neutralise_frame
+from harmonize.safety import failure_line, map_isolated, neutralise_coded
 from harmonize.sources import SourceError, Table, find_inputs, read_tables, write_table
 
 WORKBOOK_SUFFIXES = frozenset({".xlsx", ".xlsm", ".ods"})
@@ -82,6 +83,11 @@ def _output_names(rel: Path, table: Table, fmt: str | None) -> tuple[Path, str]:
 
 
 def evidence_of(table: Table, name: str) -> TableEvidence:
+    if table.coded is not None:  # the reader already found each column's distinct values
+        columns = [ColumnEvidence.from_codes(label, i, c.values, c.codes)
+                   for i, (label, c) in enumerate(zip(table.column_names, table.coded))]
+        return TableEvidence(file=name, sheet=table.sheet, n_rows=table.n_rows,
+                             columns=columns)
     return TableEvidence.from_frame(table.frame, file=name, sheet=table.sheet,
                                     typed=table.typed, formats=table.formats)
 
@@ -126,7 +132,7 @@ def contradictions(saved: TablePlan, fresh: TablePlan) -> list[str]:
     return found
 
 
-def _write_outputs(pending: list[tuple[Path, str, pd.DataFrame, str | None]],
+def _write_outputs(pending: list[tuple[Path, str, CodedFrame, str | None]],
                    out_dir: Path, inputs: set[Path]) -> None:
     from harmonize.sources import write_workbook
     workbooks: dict[Path, dict[str, pd.DataFrame]] = {}
@@ -136,7 +142,7 @@ def _write_outputs(pending: list[tuple[Path, str, pd.DataFrame, str | None]],
             raise RunError(f"{dest}: refusing to overwrite an input file")
         dest.parent.mkdir(parents=True, exist_ok=True)
         if fmt == "xlsx" and sheet is not None:
-            workbooks.setdefault(dest, {})[sheet] = frame
+            workbooks.setdefault(dest, {})[sheet] = frame.frame()
         else:
             write_table(frame, dest, fmt=fmt)
     for dest, sheets in workbooks.items():
@@ -210,7 +216,7 @@ def process_file(path: Path, rel: Path, out_dir: Path | None, options: Options,
         for table in tables:
             table_plan, result = harmonize_table(table, str(rel), options, plan)
             rel_out, writer = _output_names(rel, table, fmt)
-            frame, notes = _safe_to_open(result.frame, writer, options)
+            frame, notes = _safe_to_open(result.coded_frame(), writer, options)
             pending.append((rel_out, writer, frame, table.sheet))
             entry, unresolved = rpt.table_entry(
                 result, input_name=str(rel), sheet=table.sheet,
@@ -232,14 +238,14 @@ def process_file(path: Path, rel: Path, out_dir: Path | None, options: Options,
     return outcome
 
 
-def _safe_to_open(frame: pd.DataFrame, writer: str, options: Options
-                  ) -> tuple[pd.DataFrame, list[str]]:
+def _safe_to_open(table: CodedFrame, writer: str, options: Options
+                  ) -> tuple[CodedFrame, list[str]]:
     """Text that a spreadsheet would run as a formula gets a leading quote (OWASP "CSV
     Injection"); numbers, negative ones included, stay as they are. Parquet is data, not
     a sheet, and is written as is."""
     if writer == "parquet" or not options.neutralise_formulas:
-        return frame, []
-    safe = neutralise_frame(frame)
+        return table, []
+    safe = neutralise_coded(table)
     return safe.frame, safe.notes()
 
 

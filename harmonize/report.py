@@ -76,8 +76,8 @@ def column_entry(result: ColumnResult) -> dict[str, Any]:
         "missing": result.missing,
         "examples": [{"raw": raw, "output": out} for raw, out in result.examples],
     }
-    if result.extra:
-        entry["companions"] = list(result.extra)
+    if result.extra_lookup:
+        entry["companions"] = list(result.extra_lookup)
     if result.drift:
         entry["drift"] = list(result.drift)
     return entry
@@ -88,7 +88,7 @@ def table_entry(result: TableResult, *, input_name: str, sheet: str | None,
                 warnings: list[str] | None = None) -> tuple[dict, list[dict]]:
     """The report entry for one table, and its unresolved cells."""
     entry = {"input": input_name, "sheet": sheet, "output": output,
-             "rows": len(result.frame), "header_row": header_row,
+             "rows": result.n_rows, "header_row": header_row,
              "columns": [column_entry(c) for c in result.columns],
              "warnings": list(warnings or []), "drift": list(result.drift)}
     unresolved = [unresolved_entry(cell, file=input_name, sheet=sheet, column=column.plan.name,

@@ -43,6 +43,7 @@ from typing import IO, Any
 import numpy as np
 import pandas as pd
 
+from harmonize.arrowcsv import CodedColumn, CodedFrame, drop_unused, read_coded, write_csv
 from harmonize.safety import LimitError, Limits, check_archive, scan_ods_content
 
 __all__ = [
@@ -139,6 +140,42 @@ class Table:
     dialect: CsvDialect | None
     date1904: bool = False
     warnings: list[str] = field(default_factory=list)
+    # the frame's columns dictionary-encoded, when the reader had them (saves the
+    # evidence step a second pass over every cell)
+    coded: list[CodedColumn] | None = None
+
+    @property
+    def n_rows(self) -> int:
+        return len(self.frame)
+
+    @property
+    def column_names(self) -> list[str]:
+        return [str(c) for c in self.frame.columns]
+
+
+class CodedTable(Table):
+    """A Table read dictionary-encoded: ``frame`` is built from the codes when first
+    asked for (the pipeline works on the codes and never needs it)."""
+
+    @property  # type: ignore[override]
+    def frame(self) -> pd.DataFrame:
+        if isinstance(self._frame, CodedFrame):
+            self._frame = self._frame.frame()
+        return self._frame
+
+    @frame.setter
+    def frame(self, value: pd.DataFrame | CodedFrame) -> None:
+        self._frame = value
+
+    @property
+    def n_rows(self) -> int:
+        return self._frame.n_rows if isinstance(self._frame, CodedFrame) else len(self._frame)
+
+    @property
+    def column_names(self) -> list[str]:
+        if isinstance(self._frame, CodedFrame):
+            return list(self._frame.names)
+        return [str(c) for c in self._frame.columns]
 
 
 # --------------------------------------------------------------------------
@@ -529,7 +566,8 @@ def _sniffer_pick(sample: str, tied: list[str]) -> str:
 
 def _read_delimited(path: Path, limits: Limits) -> Table:
     notes: list[str] = []
-    text, encoding, bom = _decode(path.read_bytes(), path, notes)
+    data = path.read_bytes()
+    text, encoding, bom = _decode(data, path, notes)
     if not text.strip():
         raise SourceError(path, "empty file")
     forced = "\t" if path.suffix.lower() == ".tsv" else None
@@ -538,6 +576,14 @@ def _read_delimited(path: Path, limits: Limits) -> Table:
     body = text[lead:]
     header_row = len(_LINE_BREAK.findall(text, 0, lead)) + 1
     _precheck_size(path, body, delim, limits)
+    dialect = CsvDialect(encoding, delim, bom)
+    # the file's own bytes when they are the body's UTF-8 (lines above the header are
+    # ASCII, so characters and bytes count alike)
+    utf8 = encoding in ("utf-8", "utf-8-sig") and not notes
+    coded = _read_coded(body, delim, data[(3 if bom else 0) + lead:] if utf8 else None)
+    if coded is not None:
+        return _coded_table(path, coded, header_row, dialect, limits, notes,
+                            check_sizes=len(text) > limits.max_cell_chars)
     raw = _parse_body(path, body, delim, header_row)
     padded = _padded_rows(body, delim, raw, header_row)
     if padded:
@@ -548,8 +594,57 @@ def _read_delimited(path: Path, limits: Limits) -> Table:
     _check_cells(path, None, *frame.shape, limits)
     if len(text) > limits.max_cell_chars:  # otherwise no cell can be that long
         _check_cell_sizes(path, None, frame, header_row, limits)
-    dialect = CsvDialect(encoding, delim, bom)
     return Table(path, None, frame, header_row, {}, {}, dialect, False, notes)
+
+
+def _read_coded(body: str, delim: str, data: bytes | None) -> list[CodedColumn] | None:
+    """The fast, dictionary-encoded parse of a rectangular table; None otherwise."""
+    sep = delim or next((s for s in _NO_SPLIT_SEPARATORS if s not in body), None)
+    if sep is None:
+        return None
+    return read_coded(body, sep, data)
+
+
+def _coded_table(path: Path, coded: list[CodedColumn], header_row: int, dialect: CsvDialect,
+                 limits: Limits, notes: list[str], *, check_sizes: bool) -> Table:
+    """A Table from dictionary-encoded columns (header as row 0), trimmed as the general
+    path trims: trailing empty rows, and trailing columns empty in header and cells."""
+    filled = [c.values != "" for c in coded]
+    rows_filled = np.zeros(len(coded[0].codes) - 1, dtype=bool)
+    for column, nonempty in zip(coded, filled):
+        rows_filled |= nonempty[column.codes[1:]]
+    rows = np.flatnonzero(rows_filled)
+    n_rows = int(rows[-1]) + 1 if len(rows) else 0
+    keep_cols = [bool(nonempty[c.codes[1 : n_rows + 1]].any()) or
+                 str(c.values[c.codes[0]]).strip() != "" for c, nonempty in zip(coded, filled)]
+    n_cols = max((i + 1 for i, k in enumerate(keep_cols) if k), default=0)
+    header = [str(c.values[c.codes[0]]) for c in coded[:n_cols]]
+    names = _name_columns(path, None, header, notes)
+    _check_cells(path, None, n_rows, n_cols, limits)
+    columns = [drop_unused(c, slice(1, n_rows + 1)) for c in coded[:n_cols]]
+    if check_sizes:
+        _check_coded_sizes(path, names, columns, header_row, limits)
+    return CodedTable(path, None, CodedFrame(names, columns, n_rows), header_row, {}, {},
+                      dialect, False, notes, coded=columns)
+
+
+def _check_coded_sizes(path: Path, names: list[str], columns: list[CodedColumn],
+                       header_row: int, limits: Limits) -> None:
+    """As ``_check_cell_sizes``, on each column's distinct values."""
+    for name, column in zip(names, columns):
+        if column.longest is not None and column.longest <= limits.max_cell_chars:
+            continue
+        lengths = np.fromiter((len(v) for v in column.values), dtype=np.int64,
+                              count=len(column.values))
+        if len(lengths) and lengths.max() > limits.max_cell_chars:
+            row = int(np.flatnonzero(column.codes == int(np.argmax(lengths)))[0])
+            raise SourceError(
+                path,
+                f"column '{name}' holds {int(lengths.max())} characters in one cell,"
+                f" over the limit {limits.max_cell_chars}",
+                row=header_row + 1 + row,
+                column=name,
+            )
 
 
 def _precheck_size(path: Path, body: str, delim: str, limits: Limits) -> None:
@@ -563,7 +658,9 @@ def _precheck_size(path: Path, body: str, delim: str, limits: Limits) -> None:
     columns = first.count(delim) + 1 if delim else 1
     if columns > limits.max_columns:
         raise SourceError(path, f"has {columns} columns, over the limit {limits.max_columns}")
-    rows = body.count("\n") + body.count("\r") - body.count("\r\n") + 1
+    rows = body.count("\n") + 1
+    if "\r" in body:  # old Mac line ends count as breaks too
+        rows += body.count("\r") - body.count("\r\n")
     if rows * columns > limits.max_cells:
         _check_cells(path, None, len(_csv_field_counts(body, delim)), columns, limits)
 
@@ -1174,16 +1271,20 @@ def atomic_write_text(dest: Path, text: str) -> None:
     _atomic_write(Path(dest), lambda handle: handle.write(text.encode("utf-8")))
 
 
-def write_table(frame: pd.DataFrame, dest: Path, *, fmt: str) -> None:
+def write_table(table: pd.DataFrame | CodedFrame, dest: Path, *, fmt: str) -> None:
     """Write one table as text cells: fmt is "csv", "xlsx" or "parquet".
 
     "csv" writes tab-separated text when ``dest`` ends in .tsv, comma-separated otherwise.
     """
     dest = Path(dest)
+
+    def frame() -> pd.DataFrame:
+        return table.frame() if isinstance(table, CodedFrame) else table
+
     writers: dict[str, Callable[[IO[bytes]], None]] = {
-        "csv": lambda handle: _write_csv(frame, handle, _delimiter_for(dest)),
-        "xlsx": lambda handle: _write_xlsx({"Sheet1": frame}, dest, handle),
-        "parquet": lambda handle: _write_parquet(frame, handle),
+        "csv": lambda handle: write_csv(table, handle, _delimiter_for(dest)),
+        "xlsx": lambda handle: _write_xlsx({"Sheet1": frame()}, dest, handle),
+        "parquet": lambda handle: _write_parquet(frame(), handle),
     }
     if fmt not in writers:
         raise SourceError(dest, f"unknown output format '{fmt}' (csv, xlsx, parquet)")
@@ -1253,18 +1354,6 @@ def _text_columns(frame: pd.DataFrame) -> list[np.ndarray]:
 def _delimiter_for(dest: Path) -> str:
     # a .tsv output must read back as tab-separated (the reader forces tabs for .tsv)
     return "\t" if dest.suffix.lower() == ".tsv" else ","
-
-
-def _write_csv(frame: pd.DataFrame, handle: IO[bytes], delimiter: str = ",") -> None:
-    frame.to_csv(
-        handle,
-        sep=delimiter,
-        index=False,
-        encoding="utf-8",
-        lineterminator="\n",
-        quoting=csv.QUOTE_MINIMAL,
-        na_rep="",
-    )
 
 
 def _write_parquet(frame: pd.DataFrame, handle: IO[bytes]) -> None:

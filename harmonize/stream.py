@@ -11,7 +11,6 @@ place at the end, so memory stays flat however long the file is.
 
 from __future__ import annotations
 
-import csv
 from collections.abc import Callable, Iterator
 from dataclasses import dataclass
 from pathlib import Path
@@ -21,12 +20,13 @@ import numpy as np
 import pandas as pd
 
 from harmonize.apply import TableResult, apply_table
+from harmonize.arrowcsv import write_csv
 from harmonize.decide import decide_table
 from harmonize.engines.base import Outcome
 from harmonize.evidence import ColumnEvidence, TableEvidence
 from harmonize.options import Options
 from harmonize.plan import Plan, TablePlan
-from harmonize.safety import neutralise_frame
+from harmonize.safety import neutralise_coded
 from harmonize.sources import SourceError, _atomic_write, _name_columns, sniff_csv
 
 CHUNK_ROWS = 250_000
@@ -138,12 +138,10 @@ def harmonize_stream(path: Path, name: str, dest: Path | None, options: Options,
             result = apply_table(TableEvidence.from_frame(frame, file=name), table_plan, options)
             _accumulate(state, result)
             if handle is not None:
-                frame = result.frame
+                coded = result.coded_frame()
                 if options.neutralise_formulas:
-                    frame = neutralise_frame(frame).frame
-                frame.to_csv(handle, index=False, header=state["done"] == 0,
-                                    lineterminator="\n", quoting=csv.QUOTE_MINIMAL,
-                                    encoding="utf-8")
+                    coded = neutralise_coded(coded).frame
+                write_csv(coded, handle, header=state["done"] == 0)
             state["done"] += len(frame)
             if on_chunk:
                 on_chunk(state["done"])

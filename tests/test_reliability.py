@@ -10,7 +10,6 @@ trader); references for expected values are named beside each check.
 from __future__ import annotations
 
 import hashlib
-import inspect
 import io
 import json
 import os
@@ -48,11 +47,6 @@ ROOT = Path(__file__).resolve().parent.parent
 SAMPLES = ROOT / "samples"
 PROPERTY = settings(max_examples=40, deadline=None, database=None, derandomize=True,
                     suppress_health_check=[HealthCheck.too_slow, HealthCheck.data_too_large])
-
-
-def wired(name: str) -> bool:
-    """Whether the pipeline already calls this safety hook (the lead wires them)."""
-    return name in inspect.getsource(pipeline)
 
 
 def checksums(folder: Path) -> dict[str, str]:
@@ -277,8 +271,6 @@ def test_hostile_folder_in_a_real_process_with_two_jobs(hostile: Path, tmp_path:
     check_run(hostile, tmp_path, before, done.returncode, done.stderr)
 
 
-@pytest.mark.skipif(not wired("neutralise_frame"),
-                    reason="needs safety.neutralise_frame in pipeline.process_file")
 def test_payloads_neutralised_and_numbers_intact(hostile: Path, tmp_path: Path) -> None:
     result = CliRunner().invoke(main, ["apply", str(hostile / "ledger_de.csv"),
                                        str(hostile / "stock.xlsx"), "--out", str(tmp_path)])
@@ -438,8 +430,6 @@ def test_console_entry_prints_one_line_for_an_unexpected_error(capsys: pytest.Ca
         "harmonize: internal error (KeyError: 'plan'); please report this\n")
 
 
-@pytest.mark.skipif(not wired("failure_line"),
-                    reason="needs safety.failure_line in pipeline.process_file")
 def test_an_engine_error_skips_only_its_file(tmp_path: Path) -> None:
     folder = tmp_path / "in"
     folder.mkdir()
@@ -458,7 +448,6 @@ def test_failure_line_is_one_line() -> None:
     assert "\n" not in line and line.startswith("a.csv: internal error (ValueError: two lines)")
 
 
-@pytest.mark.skipif(not wired("map_isolated"), reason="needs safety.map_isolated in pipeline.run")
 def test_folder_run_survives_a_dying_worker(tmp_path: Path, monkeypatch: pytest.MonkeyPatch
                                             ) -> None:
     folder = tmp_path / "in"

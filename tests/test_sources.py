@@ -698,7 +698,7 @@ class TestAtomicWrites:
             handle.write(b"Lot,Note\n007,")
             raise RuntimeError("disk went away")
 
-        monkeypatch.setattr(sources, "_write_csv", broken)
+        monkeypatch.setattr(sources, "write_csv", broken)
         with pytest.raises(RuntimeError, match="disk went away"):
             write_table(FRAME, dest, fmt="csv")
         assert dest.read_text() == "previous run\n"
