@@ -29,7 +29,7 @@ from harmonize.html_assets import (
 
 MAX_UNDECIDED_ROWS = 5000      # undecided cells drawn as rows; all are in unresolved.csv
 MAX_COLUMN_FIGURES = 1000      # above this many columns the per-column figures are left out
-MAX_RUN_FIGURE_COLUMNS = 5000  # above this, the run-wide matplotlib figures are left out
+MAX_RUN_FIGURE_COLUMNS = 5000  # above this, the run-wide figures are left out
 MAX_LISTED = 30                # entries of a list or mapping shown before "... more"
 MAX_NEEDS_LOOK = 40
 OUTCOMES = figs.OUTCOMES
@@ -292,11 +292,8 @@ def _needs_look(refs: list[ColumnRef]) -> str:
 def _run_figures(report: Mapping[str, Any], refs: list[ColumnRef]) -> str:
     if not refs or len(refs) > MAX_RUN_FIGURE_COLUMNS:
         return ""
-    try:
-        drawn = [figs.outcomes_by_table(report.get("files", [])),
-                 figs.confidence_by_kind([r.column for r in refs])]
-    except ImportError:  # matplotlib absent: the page still reads without figures
-        return '<p class="muted">Figures left out: matplotlib is not installed.</p>'
+    drawn = [figs.outcomes_by_table(report.get("files", [])),
+             figs.confidence_by_kind([r.column for r in refs])]
     items = "".join(f"<figure>{svg}<figcaption>{esc(caption)}</figcaption></figure>"
                     for svg, caption in filter(None, drawn))
     return f'<div class="figures">{items}</div>'

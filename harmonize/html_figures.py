@@ -1,15 +1,13 @@
-"""Figures of the HTML report, all inline SVG.
+"""Figures of the HTML report, all inline SVG written directly.
 
-Two run-wide charts are drawn with matplotlib (outcomes per table, confidence of every
-column decision). The per-column figures (outcome bar, confidence gauge) are a few SVG
-rectangles written directly: a report of 500 columns needs them in microseconds each,
-which a matplotlib figure per column (tens of milliseconds) could not give.
+Run-wide charts (outcomes per table, confidence of every column decision) and per-column
+figures (outcome bar, confidence gauge) are a few SVG shapes and labels each: drawing
+them costs microseconds, where a plotting library would add its import and layout
+time (about a second) to every run. Every mark carries a <title> for hover.
 """
 
 from __future__ import annotations
 
-import io
-import re
 from collections.abc import Mapping, Sequence
 from html import escape
 from typing import Any
@@ -20,7 +18,6 @@ OUTCOMES = ("converted", "missing", "unresolved", "passed")
 LOW, HIGH = 0.8, 0.95          # confidence bands: below LOW check it; from HIGH on, solid
 MAX_TABLE_BARS = 25            # tables drawn in the outcome chart; the rest are summarised
 LABEL_CHARS = 38
-_METADATA = re.compile(r"\s*<metadata>.*?</metadata>", re.DOTALL)
 
 
 def band(confidence: float) -> str:
@@ -73,28 +70,16 @@ def confidence_gauge(confidence: float, width: int = 180, height: int = 14) -> s
             f'<title>confidence {confidence:.3f}</title></rect></svg>')
 
 
-# ---------------------------------------------------------------- run-wide, matplotlib
+# ---------------------------------------------------------------- run-wide, hand-drawn
+
+LABEL_WIDTH = 250   # px for the row labels at the left of the run-wide charts
+PLOT_WIDTH = 400
+ROW_HEIGHT = 22
+INK, MUTED = "#1f2a44", "#5b6476"
 
 
 def _short(text: str) -> str:
     return text if len(text) <= LABEL_CHARS else text[: LABEL_CHARS - 1] + "\u2026"
-
-
-def _svg_of(figure: Any, salt: str) -> str:
-    """The figure as an inline <svg> element: text kept as text, ids unique to the figure."""
-    import matplotlib
-    buffer = io.StringIO()
-    with matplotlib.rc_context({"svg.fonttype": "none", "svg.hashsalt": salt}):
-        figure.savefig(buffer, format="svg", metadata={"Date": None}, bbox_inches="tight")
-    text = buffer.getvalue()
-    # Inline in HTML the XML prologue and the RDF metadata block serve no purpose.
-    return _METADATA.sub("", text[text.index("<svg"):], count=1)
-
-
-def _new_figure(width: float, height: float) -> Any:
-    # The Figure API draws without pyplot: no global state, no display, no GUI backend.
-    from matplotlib.figure import Figure
-    return Figure(figsize=(width, height), dpi=96)
 
 
 def _table_label(entry: Mapping[str, Any]) -> str:
@@ -110,6 +95,32 @@ def _table_totals(entry: Mapping[str, Any]) -> dict[str, int]:
     return totals
 
 
+def _chart(width: int, height: int, label: str, body: list[str]) -> str:
+    return (f'<svg class="chart" width="{width}" height="{height}" viewBox="0 0 {width} '
+            f'{height}" role="img" aria-label="{escape(label)}" font-size="12" '
+            f'font-family="system-ui, sans-serif">{"".join(body)}</svg>')
+
+
+def _text(x: float, y: float, text: str, anchor: str = "start", colour: str = INK,
+          size: int | None = None) -> str:
+    font = f' font-size="{size}"' if size else ""
+    return (f'<text x="{x:.1f}" y="{y:.1f}" text-anchor="{anchor}" fill="{colour}"'
+            f' dominant-baseline="middle"{font}>{escape(text)}</text>')
+
+
+def _x_axis(left: float, top: float, ticks: Sequence[tuple[float, str]], title: str
+            ) -> list[str]:
+    """A baseline at ``top`` with labelled ticks (x positions in px) and a title below."""
+    parts = [f'<line x1="{left}" x2="{left + PLOT_WIDTH}" y1="{top}" y2="{top}" '
+             f'stroke="{MUTED}"/>']
+    for x, label in ticks:
+        parts.append(f'<line x1="{x:.1f}" x2="{x:.1f}" y1="{top}" y2="{top + 4}" '
+                     f'stroke="{MUTED}"/>')
+        parts.append(_text(x, top + 13, label, "middle", MUTED, 11))
+    parts.append(_text(left + PLOT_WIDTH / 2, top + 31, title, "middle", MUTED, 11))
+    return parts
+
+
 def outcomes_by_table(files: Sequence[Mapping[str, Any]]) -> tuple[str, str] | None:
     """(svg, caption): each table's cells as shares by outcome; None when nothing to draw."""
     rows = [(_table_label(e), _table_totals(e)) for e in files]
@@ -122,28 +133,38 @@ def outcomes_by_table(files: Sequence[Mapping[str, Any]]) -> tuple[str, str] | N
         caption += (f" The {MAX_TABLE_BARS} tables with the most undecided cells are drawn, "
                     f"of {len(rows)}.")
         rows = rows[:MAX_TABLE_BARS]
-    rows.reverse()  # matplotlib draws the first bar at the bottom
-    import matplotlib
-    with matplotlib.rc_context({"text.parse_math": False, "font.size": 9}):
-        figure = _new_figure(7.2, 0.9 + 0.27 * len(rows))
-        axes = figure.add_subplot()
-        left = [0.0] * len(rows)
+    top, left = 26, LABEL_WIDTH
+    body = _legend(left, 8)
+    for i, (label, totals) in enumerate(rows):
+        y, total = top + i * ROW_HEIGHT, sum(totals.values())
+        body.append(_text(left - 8, y + ROW_HEIGHT / 2, label, "end"))
+        x = float(left)
         for key in OUTCOMES:
-            shares = [100 * t[key] / sum(t.values()) for _, t in rows]
-            axes.barh(range(len(rows)), shares, left=left, height=0.72,
-                      color=OUTCOME_COLOURS[key], label=OUTCOME_LABELS[key])
-            left = [a + b for a, b in zip(left, shares)]
-        axes.set_yticks(range(len(rows)), [label for label, _ in rows])
-        axes.set_xlim(0, 100)
-        axes.set_xlabel("% of the table's cells")
-        for spine in ("top", "right"):
-            axes.spines[spine].set_visible(False)
-        for y, (_, totals) in enumerate(rows):
-            axes.text(101, y, f"{sum(totals.values()):,}", va="center", fontsize=8,
-                      color="#5b6476")
-        axes.legend(ncols=4, loc="lower left", bbox_to_anchor=(0, 1.0), frameon=False,
-                    fontsize=8)
-        return _svg_of(figure, "outcomes"), caption + " Numbers at the right: cells."
+            if not totals[key]:
+                continue
+            span = PLOT_WIDTH * totals[key] / total
+            body.append(f'<rect x="{x:.2f}" y="{y + 3}" width="{max(span, 1.0):.2f}" '
+                        f'height="{ROW_HEIGHT - 6}" fill="{OUTCOME_COLOURS[key]}"><title>'
+                        f'{escape(label)}: {totals[key]:,} {OUTCOME_LABELS[key]} '
+                        f'({100 * totals[key] / total:.1f}%)</title></rect>')
+            x += span
+        body.append(_text(left + PLOT_WIDTH + 6, y + ROW_HEIGHT / 2, f"{total:,}", "start",
+                          MUTED, 11))
+    axis_top = top + len(rows) * ROW_HEIGHT + 4
+    ticks = [(left + PLOT_WIDTH * p / 100, f"{p}") for p in (0, 25, 50, 75, 100)]
+    body += _x_axis(left, axis_top, ticks, "% of the table's cells")
+    svg = _chart(left + PLOT_WIDTH + 80, axis_top + 40, "cells of each table by outcome", body)
+    return svg, caption + " Numbers at the right: cells."
+
+
+def _legend(left: float, y: float) -> list[str]:
+    parts, x = [], left
+    for key in OUTCOMES:
+        parts.append(f'<rect x="{x:.1f}" y="{y - 5}" width="10" height="10" '
+                     f'fill="{OUTCOME_COLOURS[key]}"/>')
+        parts.append(_text(x + 14, y, OUTCOME_LABELS[key], "start", INK, 11))
+        x += 22 + 7 * len(OUTCOME_LABELS[key])
+    return parts
 
 
 def confidence_by_kind(columns: Sequence[Mapping[str, Any]]) -> tuple[str, str] | None:
@@ -151,26 +172,35 @@ def confidence_by_kind(columns: Sequence[Mapping[str, Any]]) -> tuple[str, str] 
     if not columns:
         return None
     kinds = sorted({str(c.get("kind")) for c in columns})
-    import matplotlib
-    with matplotlib.rc_context({"text.parse_math": False, "font.size": 9}):
-        figure = _new_figure(6.0, 0.9 + 0.32 * len(kinds))
-        axes = figure.add_subplot()
-        axes.axvspan(0, LOW, color="#f6d5d6", zorder=0)
-        axes.axvspan(LOW, HIGH, color="#fbe7bd", zorder=0)
-        axes.axvspan(HIGH, 1.0, color="#cfeadf", zorder=0)
-        for row, kind in enumerate(kinds):
-            values = [float(c.get("confidence", 0)) for c in columns if str(c.get("kind")) == kind]
+    lowest = min(float(c.get("confidence", 0)) for c in columns)
+    start = min(0.5, max(0.0, lowest - 0.02))
+    left, top = 120, 8
+
+    def at(value: float) -> float:
+        return left + PLOT_WIDTH * (min(max(value, start), 1.0) - start) / (1.0 - start)
+
+    height = len(kinds) * ROW_HEIGHT
+    body = [f'<rect x="{at(a):.1f}" y="{top}" width="{at(b) - at(a):.1f}" height="{height}" '
+            f'fill="{colour}"/>' for a, b, colour in
+            ((start, LOW, "#f6d5d6"), (LOW, HIGH, "#fbe7bd"), (HIGH, 1.0, "#cfeadf"))
+            if b > start]
+    for row, kind in enumerate(kinds):
+        y = top + row * ROW_HEIGHT + ROW_HEIGHT / 2
+        body.append(_text(left - 8, y, kind, "end"))
+        values = [float(c.get("confidence", 0)) for c in columns if str(c.get("kind")) == kind]
+        names = [str(c.get("name", "")) for c in columns if str(c.get("kind")) == kind]
+        for i, (value, name) in enumerate(zip(values, names)):
             # Spread equal values a little so that each column stays visible.
-            offsets = [((i * 7) % 11 - 5) * 0.035 for i in range(len(values))]
-            axes.scatter(values, [row + o for o in offsets], s=16, color="#1f2a44",
-                         alpha=0.75, linewidths=0, zorder=2)
-        axes.set_yticks(range(len(kinds)), kinds)
-        axes.set_ylim(-0.6, len(kinds) - 0.4)
-        lowest = min(float(c.get("confidence", 0)) for c in columns)
-        axes.set_xlim(min(0.5, lowest - 0.02), 1.0)
-        axes.set_xlabel("confidence (probability that kind and convention are right)")
-        for spine in ("top", "right"):
-            axes.spines[spine].set_visible(False)
-        caption = (f"Each dot is one of the {len(columns)} column decisions. Red: below {LOW} "
-                   f"(check it); amber: {LOW} to {HIGH}; green: {HIGH} and above.")
-        return _svg_of(figure, "confidence"), caption
+            offset = ((i * 7) % 11 - 5) * 1.2
+            body.append(f'<circle cx="{at(value):.1f}" cy="{y + offset:.1f}" r="3" '
+                        f'fill="{INK}" fill-opacity="0.75"><title>{escape(name)}: '
+                        f'{value:.3f}</title></circle>')
+    step = 0.1 if start < 0.5 else 0.05
+    marks = [round(start + k * step, 2) for k in range(int((1.0 - start) / step + 1e-9) + 1)]
+    ticks = [(at(m), f"{m:g}") for m in marks]
+    body += _x_axis(left, top + height, ticks,
+                    "confidence (probability that kind and convention are right)")
+    caption = (f"Each dot is one of the {len(columns)} column decisions. Red: below {LOW} "
+               f"(check it); amber: {LOW} to {HIGH}; green: {HIGH} and above.")
+    return _chart(left + PLOT_WIDTH + 20, top + height + 40, "confidence of each column "
+                  "decision", body), caption
