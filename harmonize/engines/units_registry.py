@@ -21,6 +21,7 @@ it by the column's dimension and evidence, or lists the cell.
 
 from __future__ import annotations
 
+import hashlib
 import re
 import unicodedata
 from collections.abc import Iterable
@@ -30,6 +31,7 @@ from functools import cache
 
 import pint
 
+from harmonize.diskcache import cached_json
 from harmonize.locales import load_entries
 
 
@@ -154,8 +156,12 @@ def registry() -> pint.UnitRegistry:
     """
     ureg = pint.UnitRegistry(non_int_type=Fraction, on_redefinition="raise",
                              case_sensitive=True, autoconvert_offset_to_baseunit=False)
-    ureg.define("international_acre = 43560 * foot ** 2")
+    for definition in _EXTRA_DEFINITIONS:
+        ureg.define(definition)
     return ureg
+
+
+_EXTRA_DEFINITIONS = ("international_acre = 43560 * foot ** 2",)
 
 
 @dataclass(frozen=True)
@@ -166,9 +172,33 @@ class Factor:
     offset: Fraction
 
 
-@cache
 def factor(unit_id: str) -> Factor:
-    """The exact factor of a unit to its dimension's SI unit (cached per unit)."""
+    """The exact factor of a unit to its dimension's SI unit."""
+    return factors()[unit_id]
+
+
+@cache
+def factors() -> dict[str, Factor]:
+    """Every unit's factor, kept in the user's cache folder between runs: building pint's
+    registry costs about half a second a process, and the factors depend only on pint's
+    version and the unit table (both in the cache key)."""
+    table = sorted((u.id, u.pint_name, u.dimension) for u in UNITS.values())
+    key = hashlib.sha256(repr((table, sorted(SI_TARGETS.items()), _EXTRA_DEFINITIONS))
+                         .encode()).hexdigest()[:16]
+    stored = cached_json("unit-factors", f"{pint.__version__}-{key}", _all_factor_texts)
+    return {unit_id: Factor(Fraction(scale), Fraction(offset))
+            for unit_id, (scale, offset) in stored.items()}
+
+
+def _all_factor_texts() -> dict[str, list[str]]:
+    found = {}
+    for unit_id in UNITS:
+        computed = _pint_factor(unit_id)
+        found[unit_id] = [str(computed.scale), str(computed.offset)]
+    return found
+
+
+def _pint_factor(unit_id: str) -> Factor:
     unit = UNITS[unit_id]
     ureg = registry()
     si = UNITS[SI_TARGETS[unit.dimension]].pint_name
