@@ -202,9 +202,23 @@ def _note_unresolved(result: ColumnResult, converted: Converted, wanted: np.ndar
 def _note_examples(result: ColumnResult, converted: Converted, wanted: np.ndarray,
                    column: ColumnEvidence) -> None:
     changed = np.nonzero(converted.outcome == Outcome.CONVERTED)[0]
-    order = changed[np.argsort(-column.counts[wanted[changed]], kind="stable")]
-    for i in order[: EXAMPLES - len(result.examples)]:
+    room = EXAMPLES - len(result.examples)
+    for i in changed[_most_frequent(column.counts[wanted[changed]], room)]:
         result.examples.append((str(column.values[wanted[i]]), converted.text[i]))
+
+
+def _most_frequent(counts: np.ndarray, k: int) -> np.ndarray:
+    """Positions of the ``k`` largest counts, largest first, ties in position order (as a
+    stable sort would give them) without sorting a column of a million values."""
+    if k <= 0 or not len(counts):
+        return np.zeros(0, dtype=np.int64)
+    if len(counts) <= k:
+        return np.argsort(-counts, kind="stable")
+    cut = np.partition(counts, len(counts) - k)[len(counts) - k]  # the k-th largest
+    above = np.flatnonzero(counts > cut)
+    tied = np.flatnonzero(counts == cut)[: k - len(above)]
+    picked = np.concatenate([above, tied])
+    return picked[np.argsort(-counts[picked], kind="stable")]
 
 
 class TableResult:

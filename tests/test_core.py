@@ -8,7 +8,7 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from harmonize.apply import apply_table
+from harmonize.apply import _most_frequent, apply_table
 from harmonize.decide import decide_table
 from harmonize.engines.base import Outcome
 from harmonize.engines.identifiers import IdentifierEngine
@@ -224,3 +224,12 @@ def test_spaced_postcodes_are_identifiers() -> None:
     table = TableEvidence.from_frame(pd.DataFrame({"Postcode": ["114 55", "411 03", "211 19"]}))
     from harmonize.context import Context
     assert IdentifierEngine().propose(table.columns[0], Context(table)).kind == "identifier"
+
+
+@settings(max_examples=200, deadline=None)
+@given(st.lists(st.integers(1, 4), max_size=40), st.integers(0, 7))
+def test_report_examples_are_the_most_frequent_values(counts: list[int], k: int) -> None:
+    # reference: numpy's stable argsort (ties keep their order), the first k positions
+    array = np.array(counts, dtype=np.int64)
+    expected = np.argsort(-array, kind="stable")[:k]
+    assert _most_frequent(array, k).tolist() == expected.tolist()
