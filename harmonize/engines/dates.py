@@ -23,7 +23,7 @@ Convention keys (plain values; edit them in a plan file):
                     in one order only is converted.
 ``year_from``       two-digit years are read in ``year_from`` .. ``year_from + 99``.
 ``numbers``         how bare numbers are read: null (not dates), "compact" (20240403,
-                    240403, 1985102), "serial1900" / "serial1904" (spreadsheet serial
+                    240403; never seven digits), "serial1900" / "serial1904" (spreadsheet serial
                     days, ECMA-376), "unix_seconds", "unix_milliseconds".
 ``kind``            "date", "datetime" or "time": serial and epoch values of a datetime
                     column keep their time of day.
@@ -44,6 +44,7 @@ import numpy as np
 
 from harmonize.context import Context, Split
 from harmonize.engines.base import Converted, Decision, GroupRule, Outcome
+from harmonize.engines.dates_convert import SENTINELS, Settings, fast_convert
 from harmonize.engines.dates_decide import (
     LR_LOCALE,
     LR_STATED,
@@ -51,12 +52,10 @@ from harmonize.engines.dates_decide import (
     NAMES,
     Hints,
     Verdict,
-    admitted,
     decide,
     format_hints,
     templates,
 )
-from harmonize.engines.dates_fast import IsoValues, read_iso
 from harmonize.engines.dates_numbers import NumbersMode, numbers_mode
 from harmonize.engines.dates_parse import (
     BAD,
@@ -64,22 +63,23 @@ from harmonize.engines.dates_parse import (
     FIXED,
     OPEN,
     ORDERS,
+    ORDINAL,
     TIME,
+    WEEK,
     ZERO,
     Clock,
     Parsed,
     compact_parse,
     digits_reading,
     parse,
-    plausible_under,
     reading,
     render,
 )
+from harmonize.engines.dates_table import FORMS, DateTable
 from harmonize.engines.dates_words import locale_order, territory_order
 from harmonize.engines.grouping import GroupSplit, explaining_split
 from harmonize.evidence import ColumnEvidence
 
-SENTINELS = ("1900-01-01", "9999-12-31", "0000-00-00")
 MIN_SHARE = 0.5            # below this share of readable cells the column is not ours
 MIN_GROUP_ROWS = 5         # a split must average this many rows per group
 KIND_SURE = 0.995          # probability the kind is right when nearly every cell reads
@@ -89,7 +89,7 @@ KIND_SURE = 0.995          # probability the kind is right when nearly every cel
 class _Column:
     """A column's distinct values read once, with the reading of bare numbers applied."""
 
-    parsed: list[Parsed]
+    table: DateTable
     counts: np.ndarray
     numbers: str | None
 
@@ -97,8 +97,11 @@ class _Column:
     def total(self) -> int:
         return int(self.counts.sum())
 
-    def share(self, mask: Sequence[bool]) -> float:
-        return float(self.counts[np.asarray(mask, dtype=bool)].sum()) / max(self.total, 1)
+    def share(self, mask: np.ndarray) -> float:
+        return float(self.counts[mask].sum()) / max(self.total, 1)
+
+    def any_open(self) -> bool:
+        return bool(self.table.of(OPEN).any())
 
 
 class DateEngine:
@@ -112,9 +115,7 @@ class DateEngine:
         col, mode = _read_column(column)
         year_from = date.today().year - (context.options.year_window - 1)
         orders = _candidate_orders(col, context, year_from)
-        read = [_is_read(p, orders, year_from) or (p.form == DIGITS and mode.reads(p.text))
-                for p in col.parsed]
-        fit = col.share(read)
+        fit = col.share(_is_read(col.table, orders, year_from) | _numbers_read(col.table, mode))
         if fit < MIN_SHARE:
             return None
         kind = _kind(col, mode)
@@ -141,7 +142,7 @@ class DateEngine:
                orders: list[str], year_from: int, convention: dict[str, Any],
                evidence: list[str], details: dict[str, Any]) -> tuple[float, GroupRule | None]:
         """Decide the order; returns the probability that it is right, and any groups."""
-        if not any(p.form == OPEN for p in col.parsed):
+        if not col.any_open():
             evidence.append("no value leaves its field order open (ISO 8601, month names, "
                             "four-digit year first, or numbers)")
             return 1.0, None
@@ -159,7 +160,7 @@ class DateEngine:
             if grouped is not None:
                 return grouped
         hints = _column_hints(column, context, orders)
-        verdict = decide(col.parsed, col.counts, orders, year_from, hints, column.codes)
+        verdict = decide(col.table, col.counts, orders, year_from, hints, column.codes)
         evidence.extend(verdict.evidence)
         if verdict.mixed:
             grouped = self._by_groups(column, col, context, orders, year_from, convention,
@@ -178,14 +179,13 @@ class DateEngine:
                    orders: list[str], year_from: int, convention: dict[str, Any],
                    evidence: list[str], details: dict[str, Any], given: Split | None = None
                    ) -> tuple[float, GroupRule] | None:
+        rows_of = _RowsOf(column)
+
         def admits(part: ColumnEvidence) -> frozenset[str]:
-            allowed = frozenset(orders)
-            for value in part.values.tolist():
-                p = _effective(parse(value), col.numbers)
-                if p.form == OPEN:
-                    found = admitted(p, orders, year_from)
-                    allowed = allowed & found if found else allowed
-            return allowed
+            table = col.table.take(rows_of(part))
+            valid = table.admitted(orders, year_from)
+            readable = table.of(OPEN) & np.any([valid[o] for o in orders], axis=0)
+            return frozenset(o for o in orders if not (readable & ~valid[o]).any())
 
         if given is not None:
             parts = tuple(column.by_group(given.codes, given.n_groups))
@@ -205,9 +205,9 @@ class DateEngine:
                                           strict=True):
             if not part.total:
                 continue
-            parsed = [_effective(parse(v), col.numbers) for v in part.values.tolist()]
             hints = _group_hints(territory, matches, orders)
-            verdict = decide(parsed, part.counts, orders, year_from, hints, part.codes)
+            verdict = decide(col.table.take(rows_of(part)), part.counts, orders, year_from,
+                             hints, part.codes)
             conventions[label] = {"order": verdict.order, "order_shapes": verdict.shapes,
                                   "likely_order": None if verdict.order else verdict.leading}
             group_details[label] = {"order": verdict.order, "cells": part.total,
@@ -225,11 +225,12 @@ class DateEngine:
 
     def convert(self, values: Sequence[str], convention: Mapping[str, Any]) -> Converted:
         result = Converted.empty(len(values))
-        settings = _Settings.of(convention)
-        fast = _fast_reads(values, settings)
-        result.text = fast.text.tolist()
-        result.outcome[fast.read] = Outcome.CONVERTED
-        for i in np.flatnonzero(~fast.read).tolist():
+        settings = Settings.of(convention)
+        done, text = fast_convert(values, settings)   # the common shapes, on whole arrays
+        if text is not None:
+            result.text = text.tolist()
+            result.outcome[done] = Outcome.CONVERTED
+        for i in np.flatnonzero(~done).tolist():   # the others, one by one
             _convert_one(result, i, values[i], settings)
         return result
 
@@ -237,50 +238,49 @@ class DateEngine:
 # ---------------------------------------------------------------- propose helpers
 
 def _read_column(column: ColumnEvidence) -> tuple[_Column, NumbersMode]:
-    """Every distinct value parsed, with the column's reading of bare numbers.
-
-    ISO dates and date-times whose reading is certain (``dates_fast``) all weigh alike in
-    the decision (a fixed field order, a real day, a time of day or not), so unless the
-    column also holds open-order values (whose decision follows rows one by one) they
-    stand as one value per kind, at its first place, carrying all their cells."""
-    fast = read_iso(column.values.tolist(), with_text=False)
-    if fast.read.any():
-        keep = ~fast.read
-        counts = column.counts.copy()
-        for timed in (True, False):
-            members = np.flatnonzero(fast.read & (fast.timed == timed))
-            if len(members):
-                keep[members[0]] = True
-                counts[members[0]] = column.counts[members].sum()
-        kept = np.flatnonzero(keep)
-        reduced = ColumnEvidence(column.name, column.index, column.values[kept], counts[kept])
-        col, mode = _parsed_column(reduced)
-        if not any(p.form == OPEN for p in col.parsed):
-            return col, mode
-    return _parsed_column(column)
+    """Every distinct value read once (``dates_table``), with the column's reading of bare
+    numbers applied."""
+    table = DateTable.read(column.values)
+    mode = numbers_mode(column, table)
+    if mode.mode == "compact":
+        table = table.compact()
+    return _Column(table, column.counts, mode.mode), mode
 
 
-def _parsed_column(column: ColumnEvidence) -> tuple[_Column, NumbersMode]:
-    raw = [parse(v) for v in column.values.tolist()]
-    mode = numbers_mode(column, raw)
-    return _Column([_effective(p, mode) for p in raw], column.counts, mode.mode), mode
+class _RowsOf:
+    """The rows of the column's table that hold a part's (a group's) values."""
+
+    def __init__(self, column: ColumnEvidence) -> None:
+        self.index: dict[str, int] | None = None
+        self.values = column.values
+
+    def __call__(self, part: ColumnEvidence) -> np.ndarray:
+        if self.index is None:
+            self.index = {v: i for i, v in enumerate(self.values.tolist())}
+        return np.fromiter((self.index[v] for v in part.values.tolist()), dtype=np.int64,
+                           count=len(part.values))
 
 
-def _effective(p: Parsed, numbers: str | None) -> Parsed:
-    if p.form == DIGITS and numbers == "compact":
-        return compact_parse(p.text)
-    return p
+def _is_read(table: DateTable, orders: Sequence[str], year_from: int) -> np.ndarray:
+    """Per value, whether the engine reads it as a date (possibly an impossible one)."""
+    read = table.of(TIME, ZERO)
+    month, day = table.parts[:, 1], table.parts[:, 2]
+    read |= table.of(FIXED) & (month >= 1) & (month <= 12) & (day >= 1) & (day <= 31)
+    rows = np.flatnonzero(table.of(OPEN))
+    if len(rows):
+        part = table if len(rows) == len(table) else table.take(rows)
+        read[rows] = np.any([part.plausible(order) for order in orders], axis=0)
+    for i in np.flatnonzero(table.of(WEEK, ORDINAL)).tolist():
+        read[i] = reading(table.slow[i], None, year_from) is not None
+    return read
 
 
-def _is_read(p: Parsed, orders: Sequence[str], year_from: int) -> bool:
-    """Whether the engine reads the value as a date (possibly an impossible one)."""
-    if p.form in (TIME, ZERO):
-        return True
-    if p.form == OPEN:
-        return any(plausible_under(p, o) for o in orders)
-    if p.form == FIXED:
-        return 1 <= p.parts[1] <= 12 and 1 <= p.parts[2] <= 31
-    return p.has_date and reading(p, None, year_from) is not None
+def _numbers_read(table: DateTable, mode: NumbersMode) -> np.ndarray:
+    read = np.zeros(len(table), dtype=bool)
+    if mode.mode is not None:
+        for i in np.flatnonzero(table.of(DIGITS)).tolist():
+            read[i] = mode.reads(table.slow[i].text)
+    return read
 
 
 def _candidate_orders(col: _Column, context: Context, year_from: int) -> list[str]:
@@ -288,20 +288,20 @@ def _candidate_orders(col: _Column, context: Context, year_from: int) -> list[st
     options = context.options
     stated = {options.date_order, locale_order(options.locale) if options.locale else None,
               context.options.for_engine("dates").get("order")}
-    compact = col.numbers == "compact" and any(
-        p.form == OPEN for p in col.parsed)
+    compact = col.numbers == "compact" and col.any_open()
     # a first component above 31 cannot be a day: the year comes first. A value only the
     # calendar rules out as a day (31.09.19) is an impossible date, not evidence for YMD
-    only_ymd = any(p.form == OPEN and p.parts[0] > 31 and admitted(p, ORDERS, year_from)
-                   == {"YMD"} for p in col.parsed)
+    above = col.table.take(np.flatnonzero(col.table.of(OPEN) & (col.table.parts[:, 0] > 31)))
+    valid = above.admitted(ORDERS, year_from)
+    only_ymd = (valid["YMD"] & ~valid["DMY"] & ~valid["MDY"]).any()
     return list(ORDERS) if ("YMD" in stated or compact or only_ymd) else ["DMY", "MDY"]
 
 
 def _kind(col: _Column, mode) -> str:
     if col.numbers in ("unix_seconds", "unix_milliseconds") or mode.with_time:
         return "datetime"
-    timed = np.array([p.clock is not None for p in col.parsed])
-    dated = np.array([p.has_date or p.form == DIGITS for p in col.parsed])
+    timed = col.table.timed
+    dated = col.table.has_date | col.table.of(DIGITS)
     n_dated = col.counts[dated].sum()
     if n_dated == 0 and timed.any():
         return "time"
@@ -309,10 +309,13 @@ def _kind(col: _Column, mode) -> str:
 
 
 def _form_counts(col: _Column) -> dict[str, int]:
-    found: Counter[str] = Counter()
-    for p, n in zip(col.parsed, col.counts.tolist(), strict=True):
-        found[p.form] += n
-    return dict(found.most_common())
+    """Cells per form, most first (ties: the form met first)."""
+    forms = col.table.form
+    present = np.flatnonzero(np.bincount(forms, minlength=len(FORMS))).tolist()
+    cells = {f: int(col.counts[forms == f].sum()) for f in present}
+    first = {f: int(np.argmax(forms == f)) for f in present}
+    ranked = sorted(present, key=lambda f: (-cells[f], first[f]))
+    return {FORMS[f]: cells[f] for f in ranked}
 
 
 def _column_hints(column: ColumnEvidence, context: Context, orders: list[str]) -> Hints:
@@ -419,7 +422,7 @@ def _apply(verdict: Verdict, convention: dict[str, Any], evidence: list[str]) ->
 
 def _two_digit_note(col: _Column, year_from: int, context: Context,
                     details: dict[str, Any]) -> None:
-    if any(_short_year(p) for p in col.parsed):
+    if _short_year(col.table):
         window = context.options.year_window
         details["two_digit_years"] = (
             f"read in {year_from}-{year_from + 99}: options.year_window = {window} places "
@@ -427,14 +430,18 @@ def _two_digit_note(col: _Column, year_from: int, context: Context,
             f"{year_from + window - 1}")
 
 
-def _short_year(p: Parsed) -> bool:
-    if p.form == FIXED:
-        return p.widths[0] <= 2
-    return p.form == OPEN and (p.widths[2] == 2 or max(p.widths) <= 2)
+def _short_year(table: DateTable) -> bool:
+    """Whether any value writes a two-digit year."""
+    first, second, last = table.widths.T
+    if (table.of(FIXED) & (first <= 2)).any():
+        return True
+    is_open = table.of(OPEN)
+    return bool((is_open & ((last == 2) | (np.maximum(np.maximum(first, second), last) <= 2)))
+                .any()) if is_open.any() else False
 
 
 def _zone_note(col: _Column, convention: Mapping[str, Any], details: dict[str, Any]) -> None:
-    zones = Counter(p.clock.zone for p in col.parsed if p.clock and p.clock.zone)
+    zones = Counter(p.clock.zone for p in col.table.records() if p.clock and p.clock.zone)
     if zones:
         details["zone_abbreviations"] = {
             z: convention["zone_offsets"].get(z, "unresolved: an abbreviation does not fix "
@@ -443,42 +450,7 @@ def _zone_note(col: _Column, convention: Mapping[str, Any], details: dict[str, A
 
 # ---------------------------------------------------------------- convert helpers
 
-def _fast_reads(values: Sequence[str], s: _Settings) -> IsoValues:
-    """The values ``dates_fast`` converts exactly as ``_convert_one`` would: not in a
-    column of times (a date there is listed) and not a sentinel date (missing)."""
-    if s.kind == "time":
-        return IsoValues.none(len(values))
-    return read_iso(list(values), leave_days=s.sentinels)
-
-
-@dataclass(frozen=True)
-class _Settings:
-    order: str | None
-    shapes: Mapping[str, str] | None
-    candidates: tuple[str, ...]
-    likely: str | None
-    year_from: int
-    numbers: str | None
-    kind: str
-    zones: Mapping[str, str]
-    sentinels: frozenset[str]
-
-    @classmethod
-    def of(cls, convention: Mapping[str, Any]) -> _Settings:
-        order = convention.get("order")
-        shapes = convention.get("order_shapes")
-        if isinstance(shapes, list):   # a list of ways: all follow ``order``
-            shapes = dict.fromkeys(shapes, order)
-        return cls(order=order, shapes=dict(shapes) if shapes else None,
-                   candidates=tuple(convention.get("candidates") or ("DMY", "MDY")),
-                   likely=convention.get("likely_order"),
-                   year_from=int(convention.get("year_from") or date.today().year - 79),
-                   numbers=convention.get("numbers"), kind=convention.get("kind", "date"),
-                   zones=dict(convention.get("zone_offsets") or {}),
-                   sentinels=frozenset(convention.get("sentinels", SENTINELS)))
-
-
-def _convert_one(result: Converted, i: int, raw: str, s: _Settings) -> None:
+def _convert_one(result: Converted, i: int, raw: str, s: Settings) -> None:
     p = parse(raw)
     if p.form == DIGITS:
         if s.numbers in (None, "compact"):
@@ -505,7 +477,7 @@ def _convert_one(result: Converted, i: int, raw: str, s: _Settings) -> None:
             _finish(result, i, found, p.clock, s)
 
 
-def _convert_open(result: Converted, i: int, p: Parsed, s: _Settings) -> None:
+def _convert_open(result: Converted, i: int, p: Parsed, s: Settings) -> None:
     if s.shapes is not None:
         matched = {o for o in set(s.shapes.values()) if o and any(
             s.shapes.get(t) == o for t in templates(p, o))}
@@ -544,7 +516,7 @@ def _convert_open(result: Converted, i: int, p: Parsed, s: _Settings) -> None:
             candidates=texts, best=render(best, p.clock) if best else None)
 
 
-def _convert_stray(result: Converted, i: int, p: Parsed, s: _Settings) -> None:
+def _convert_stray(result: Converted, i: int, p: Parsed, s: Settings) -> None:
     """A value written unlike those that decided the order: only its own readings count."""
     orders = [o for o in (s.order, *s.candidates) if o]
     readings = {o: reading(p, o, s.year_from) for o in dict.fromkeys(orders)}
@@ -564,7 +536,7 @@ def _convert_stray(result: Converted, i: int, p: Parsed, s: _Settings) -> None:
 
 
 def _finish(result: Converted, i: int, day: date | None, clock: Clock | None,
-            s: _Settings) -> None:
+            s: Settings) -> None:
     if day is not None and day.isoformat() in s.sentinels:
         _missing(result, i)
         return
@@ -589,7 +561,7 @@ def _finish(result: Converted, i: int, day: date | None, clock: Clock | None,
     result.set(i, render(day, clock))
 
 
-def _convert_number(result: Converted, i: int, text: str, s: _Settings) -> None:
+def _convert_number(result: Converted, i: int, text: str, s: Settings) -> None:
     found = digits_reading(text, s.numbers or "", s.kind == "datetime")
     if isinstance(found, tuple):
         result.unresolved(i, found[0])

@@ -36,7 +36,9 @@ from functools import lru_cache
 
 import numpy as np
 
-from harmonize.engines.dates_parse import OPEN, Parsed, reading
+from harmonize.engines.dates_fast import SEPARATORS
+from harmonize.engines.dates_parse import OPEN, Parsed
+from harmonize.engines.dates_table import DateTable
 
 DECIDE = 0.98          # posterior needed to convert cells the order alone decides
 SLIP = 0.02            # chance that one distinct value is a slip against the column's order
@@ -54,6 +56,7 @@ OUTLIER_RATIO = 8       # one value against this many distinct ones that agree i
 OUTLIER_DOUBT = 0.9     # chance the column's order is right despite such a slip
 STRAY_CELLS = 2          # up to this many cells written another way are strays ...
 STRAY_SHARE = 0.05       # ... or up to this share of the column's numeric dates
+FEW_CODES = 32           # distinct ways of writing found by counting; more: by sorting
 
 
 @dataclass
@@ -88,39 +91,25 @@ class Verdict:
     strays: int = 0              # cells written another way, left out of the evidence
 
 
-def admitted(p: Parsed, orders: Sequence[str], year_from: int) -> frozenset[str]:
-    return frozenset(o for o in orders if reading(p, o, year_from) is not None)
-
-
-def decide(parsed: Sequence[Parsed], counts: np.ndarray, orders: Sequence[str],
-           year_from: int, hints: Hints, codes: np.ndarray | None = None) -> Verdict:
-    """Weigh the evidence for the order of the OPEN values among ``parsed``."""
-    found = families(parsed, counts)
-    family = [m != -2 for m in found.member]
+def decide(table: DateTable, counts: np.ndarray, orders: Sequence[str], year_from: int,
+           hints: Hints, codes: np.ndarray | None = None) -> Verdict:
+    """Weigh the evidence for the order of the open values of ``table``."""
+    found = families(table, counts)
+    valid = table.admitted(orders, year_from)
+    n_allowed = np.sum([valid[o] for o in orders], axis=0)
+    considered = (found.member >= 0) & (n_allowed > 0)   # impossible in every order: listed
+    contradicted: Counter[str] = Counter({o: int((considered & ~valid[o]).sum())
+                                          for o in orders if (considered & ~valid[o]).any()})
+    single = considered & (n_allowed == 1)
+    decisive, decisive_distinct = _decisive(single, valid, counts, orders)
+    pinned_families = _pinned(single, valid, found.member, orders)
+    differ = np.zeros(len(table), dtype=bool)
+    days = {o: table.keys(o, year_from) for o in orders}
+    for k, first in enumerate(orders):
+        for second in orders[k + 1:]:
+            differ |= valid[first] & valid[second] & (days[first] != days[second])
+    ambiguous = int(counts[considered & (n_allowed > 1) & differ].sum())
     strays, stray_examples = found.strays, found.examples
-    pinned_families: dict[int, set[str]] = {}
-    decisive: Counter[str] = Counter()
-    decisive_distinct: Counter[str] = Counter()
-    contradicted: Counter[str] = Counter()
-    ambiguous = 0
-    for p, n, member, which in zip(parsed, counts.tolist(), family, found.member,
-                                   strict=True):
-        if p.form != OPEN or not member:
-            continue
-        days = {o: reading(p, o, year_from) for o in orders}
-        allowed = frozenset(o for o, day in days.items() if day is not None)
-        if not allowed:
-            continue  # impossible under every order: listed, and no evidence either way
-        for order in orders:
-            if order not in allowed:
-                contradicted[order] += 1
-        if len(allowed) == 1:
-            only = next(iter(allowed))
-            decisive[only] += n
-            decisive_distinct[only] += 1
-            pinned_families.setdefault(which, set()).add(only)
-        elif len({day for day in days.values() if day is not None}) > 1:
-            ambiguous += n
     notes = [f"{count} {'cell' if count == 1 else 'cells'} only {NAMES[o]} ({o}) reads"
              for o, count in decisive.most_common() if count]
     if strays:
@@ -132,7 +121,7 @@ def decide(parsed: Sequence[Parsed], counts: np.ndarray, orders: Sequence[str],
     if codes is not None and ambiguous and not decisive:
         # row order is a prior for the likely reading only; a ledger of the same day each
         # month reads as daily steps the wrong way, so it never weighs against values
-        _sequence_hint(parsed, codes, orders, year_from, log_odds, notes)
+        _sequence_hint(table, codes, orders, year_from, log_odds, notes)
     posterior = _softmax(log_odds, orders)
     leading = max(orders, key=lambda o: (posterior[o], -orders.index(o)))
     notes.extend(hints.notes)
@@ -151,7 +140,7 @@ def decide(parsed: Sequence[Parsed], counts: np.ndarray, orders: Sequence[str],
         order = leading = hints.territory
         notes.append(f"no value decides the order and none contradicts {order}, the order "
                      f"the named country writes: {order} is applied")
-    shapes, probability = _shape_orders(parsed, found, pinned_families, order, mixed,
+    shapes, probability = _shape_orders(table, found, pinned_families, order, mixed,
                                         hints.strong, notes)
     if shapes and mixed:
         leading, probability = next(iter(shapes.values())), probability
@@ -163,7 +152,36 @@ def decide(parsed: Sequence[Parsed], counts: np.ndarray, orders: Sequence[str],
                    ambiguous, notes, mixed, shapes, strays)
 
 
-def _shape_orders(parsed: Sequence[Parsed], found: Families,
+def _decisive(single: np.ndarray, valid: dict[str, np.ndarray], counts: np.ndarray,
+              orders: Sequence[str]) -> tuple[Counter[str], Counter[str]]:
+    """(cells, distinct values) per order of the values only that order reads, listed
+    in the order their first value comes."""
+    first: dict[str, int] = {}
+    cells: dict[str, int] = {}
+    distinct: dict[str, int] = {}
+    for o in orders:
+        rows = np.flatnonzero(single & valid[o])
+        if len(rows):
+            first[o], cells[o], distinct[o] = int(rows[0]), int(counts[rows].sum()), len(rows)
+    ranked = sorted(first, key=first.__getitem__)
+    return Counter({o: cells[o] for o in ranked}), Counter({o: distinct[o] for o in ranked})
+
+
+def _pinned(single: np.ndarray, valid: dict[str, np.ndarray], member: np.ndarray,
+            orders: Sequence[str]) -> dict[int, set[str]]:
+    """Family -> the orders its values alone decide, families in order of first such value."""
+    rows = np.flatnonzero(single)
+    found: dict[int, set[str]] = {}
+    if not len(rows):
+        return found
+    which, first, _ = distinct_codes(member[rows])
+    for family in which[np.argsort(first)].tolist():
+        mine = single & (member == family)
+        found[family] = {o for o in orders if (mine & valid[o]).any()}
+    return found
+
+
+def _shape_orders(table: DateTable, found: Families,
                   pinned: dict[int, set[str]], order: str | None, mixed: bool, strong: bool,
                   notes: list[str]) -> tuple[dict[str, str] | None, float]:
     """Which ways of writing an order covers, when the column writes its dates more than
@@ -176,10 +194,13 @@ def _shape_orders(parsed: Sequence[Parsed], found: Families,
     else:
         covered = {i: next(iter(seen)) for i, seen in pinned.items()
                    if i >= 0 and len(seen) == 1 and (mixed or seen == {order})}
-    pins = Counter(i for p, i in zip(parsed, found.member, strict=True) if i in covered)
+    pins = Counter(found.member[np.isin(found.member, list(covered))].tolist())
     probability = math.prod(1.0 - SLIP ** max(1, min(pins[i], 3)) for i in covered)
-    shapes = {t: covered[i] for p, i in zip(parsed, found.member, strict=True)
-              if i in covered for t in templates(p, covered[i])}
+    shapes: dict[str, str] = {}
+    for signature, family in found.ways():   # ways in the order their first value comes
+        if family in covered:
+            shapes.update(dict.fromkeys(templates_of(signature, covered[family]),
+                                        covered[family]))
     if not shapes:
         return None, 1.0
     if found.count > len(covered):
@@ -212,6 +233,55 @@ def _padding(value: int, width: int) -> str:
     return "?" if value >= 10 else str(width)
 
 
+@dataclass(frozen=True)
+class Ways:
+    """How each of some open values is written (``signature``), as arrays: a code two
+    values share exactly when their signatures are equal, and the signature itself."""
+
+    sep: np.ndarray
+    last: np.ndarray     # digits of the last number
+    timed: np.ndarray
+    pad_a: np.ndarray    # 0 = "?" (10 and above), else the digit count
+    pad_b: np.ndarray
+
+    @classmethod
+    def of(cls, sep: np.ndarray, parts: np.ndarray, widths: np.ndarray,
+           timed: np.ndarray) -> Ways:
+        return cls(sep, widths[:, 2], timed, np.where(parts[:, 0] >= 10, 0, widths[:, 0]),
+                   np.where(parts[:, 1] >= 10, 0, widths[:, 1]))
+
+    def codes(self) -> np.ndarray:
+        """One decimal digit per field: each is below 10 (``dates_parse`` reads numbers
+        of 1-4 digits, five separators)."""
+        code = np.zeros(len(self.sep), dtype=np.int32)
+        for column in (self.sep, self.last, self.timed, self.pad_a, self.pad_b):
+            code = code * 10 + column
+        return code
+
+    def signature(self, i: int) -> Signature:
+        pad_a, pad_b = int(self.pad_a[i]), int(self.pad_b[i])
+        return (SEPARATORS[self.sep[i]], int(self.last[i]), bool(self.timed[i]),
+                str(pad_a) if pad_a else "?", str(pad_b) if pad_b else "?")
+
+    def distinct(self) -> tuple[list[Signature], np.ndarray, np.ndarray]:
+        """(the signatures met, in code order; first value of each; each value's one)."""
+        _, first, inverse = distinct_codes(self.codes())
+        return [self.signature(i) for i in first.tolist()], first, inverse
+
+
+def distinct_codes(codes: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """``np.unique(codes, return_index=True, return_inverse=True)`` for small
+    non-negative codes of which a column holds few: counted rather than sorted."""
+    present = np.flatnonzero(np.bincount(codes))
+    if len(present) > FEW_CODES:
+        found, first, inverse = np.unique(codes, return_index=True, return_inverse=True)
+        return found, first, inverse.ravel()
+    first = np.array([np.argmax(codes == c) for c in present.tolist()], dtype=np.int64)
+    lookup = np.zeros(int(present[-1]) + 1, dtype=np.int64)
+    lookup[present] = np.arange(len(present))
+    return present, first, lookup[codes]
+
+
 def compatible(a: Signature, b: Signature) -> bool:
     return a[:3] == b[:3] and all(x == y or "?" in (x, y) for x, y in zip(a[3:], b[3:]))
 
@@ -219,7 +289,12 @@ def compatible(a: Signature, b: Signature) -> bool:
 def templates(p: Parsed, order: str) -> list[str]:
     """The ways of writing ``p`` could follow under ``order``: 'DD/MM/YYYY', 'D.M.YY hh:mm'
     (a position that shows no padding gives both forms)."""
-    sep, last, timed, first, second = signature(p)
+    return templates_of(signature(p), order)
+
+
+@lru_cache(maxsize=4096)
+def templates_of(way: Signature, order: str) -> list[str]:
+    sep, last, timed, first, second = way
     letters = {"DMY": "DMY", "MDY": "MDY", "YMD": "YMD"}[order]
     heads = [[letters[0] * 2, letters[0]] if first == "?" else [letters[0] * int(first)],
              [letters[1] * 2, letters[1]] if second == "?" else [letters[1] * int(second)]]
@@ -233,17 +308,27 @@ class Families:
     signatures: the main one, others large enough to be another branch's convention, and
     strays (a few cells, left out of the evidence)."""
 
-    member: list[int]            # per value: index of its family, -1 = not OPEN, -2 = stray
+    member: np.ndarray           # per value: index of its family, -1 = not OPEN, -2 = stray
     count: int                   # number of families (strays aside)
     strays: int                  # cells written as strays
     examples: list[str]          # strays as written
+    signatures: list[Signature] = field(default_factory=list)  # ways, by first value
+    families: list[int] = field(default_factory=list)          # family of each way
+
+    def ways(self) -> list[tuple[Signature, int]]:
+        return list(zip(self.signatures, self.families, strict=True))
 
 
-def families(parsed: Sequence[Parsed], counts: np.ndarray) -> Families:
-    cells: Counter[Signature] = Counter()
-    for p, n in zip(parsed, counts.tolist(), strict=True):
-        if p.form == OPEN:
-            cells[signature(p)] += n
+def families(table: DateTable, counts: np.ndarray) -> Families:
+    rows = np.flatnonzero(table.of(OPEN))
+    member = np.full(len(table), -1, dtype=np.int64)
+    if not len(rows):
+        return Families(member, 0, 0, [])
+    ways, first, inverse = Ways.of(table.sep[rows], table.parts[rows], table.widths[rows],
+                                   table.timed[rows]).distinct()
+    cells: Counter[Signature] = Counter(dict(zip(ways, np.bincount(
+        inverse, weights=counts[rows], minlength=len(ways)).astype(np.int64).tolist(),
+        strict=True)))
     total = sum(cells.values())
     heads: list[Signature] = []
     left = dict(cells)
@@ -254,17 +339,20 @@ def families(parsed: Sequence[Parsed], counts: np.ndarray) -> Families:
             break   # what is left is a few cells written another way: strays
         heads.append(head)
         left = {s: n for s, n in left.items() if not compatible(head, s)}
-    family_of = {sig: next((i for i, h in enumerate(heads) if compatible(h, sig)), -2)
-                 for sig in cells}
-    member = [family_of[signature(p)] if p.form == OPEN else -1 for p in parsed]
+    family_of = [next((i for i, h in enumerate(heads) if compatible(h, way)), -2)
+                 for way in ways]
+    member[rows] = np.asarray(family_of, dtype=np.int64)[inverse]
     strays = sum(left.values())
-    examples = [repr(_written(p)) for p, m in zip(parsed, member, strict=True) if m == -2][:3]
-    return Families(member, len(heads), strays, examples)
+    examples = [repr(_written(table, i)) for i in np.flatnonzero(member == -2)[:3].tolist()]
+    by_first = np.argsort(first).tolist()
+    return Families(member, len(heads), strays, examples, [ways[k] for k in by_first],
+                    [family_of[k] for k in by_first])
 
 
-def _written(p: Parsed) -> str:
-    widths = p.widths
-    return p.sep.join(f"{v:0{w}d}" for v, w in zip(p.parts, widths, strict=True))
+def _written(table: DateTable, i: int) -> str:
+    sep = SEPARATORS[table.sep[i]]
+    return sep.join(f"{v:0{w}d}" for v, w in zip(table.parts[i].tolist(),
+                                                    table.widths[i].tolist(), strict=True))
 
 
 def _outliers(decisive_distinct: Counter[str], leading: str) -> bool:
@@ -280,7 +368,7 @@ def _softmax(log_odds: Counter[str], orders: Sequence[str]) -> dict[str, float]:
     return {o: w / total for o, w in weights.items()}
 
 
-def _sequence_hint(parsed: Sequence[Parsed], codes: np.ndarray, orders: Sequence[str],
+def _sequence_hint(table: DateTable, codes: np.ndarray, orders: Sequence[str],
                    year_from: int, log_odds: Counter[str], notes: list[str]) -> None:
     """Rows in date order: small steps under one reading, month-sized under another."""
     rows = codes[codes >= 0]
@@ -291,8 +379,8 @@ def _sequence_hint(parsed: Sequence[Parsed], codes: np.ndarray, orders: Sequence
     usable = None
     day_numbers = {}
     for order in orders:
-        days = np.array([_ordinal(p, order, year_from) for p in parsed], dtype=float)
-        day_numbers[order] = days[rows]
+        days = table.days(order, year_from)
+        day_numbers[order] = np.where(days > 0, days, np.nan)[rows]
         ok = ~np.isnan(day_numbers[order])
         usable = ok if usable is None else usable & ok
     pairs = usable[1:] & usable[:-1]
@@ -313,13 +401,6 @@ def _sequence_hint(parsed: Sequence[Parsed], codes: np.ndarray, orders: Sequence
         notes.append(f"{steps[best]} of {n_pairs} steps between consecutive rows are 1-"
                      f"{SMALL_STEP} days reading {best}, against {others} under the other "
                      f"reading")
-
-
-def _ordinal(p: Parsed, order: str, year_from: int) -> float:
-    if not p.has_date:
-        return math.nan
-    found = reading(p, order, year_from)
-    return math.nan if found is None else float(found.toordinal())
 
 
 # ---------------------------------------------------------------- hints

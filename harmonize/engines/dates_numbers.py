@@ -9,12 +9,12 @@ Eight-digit strings that are all valid ISO 8601 basic dates (D1) are the one exc
 
 from __future__ import annotations
 
-from collections.abc import Sequence
 from dataclasses import dataclass, field
 
 import numpy as np
 
-from harmonize.engines.dates_parse import BAD, DIGITS, ORDERS, Parsed, compact_parse, reading
+from harmonize.engines.dates_parse import BAD, DIGITS, ORDERS, compact_parse, reading
+from harmonize.engines.dates_table import DateTable
 from harmonize.engines.dates_words import header_says_date
 from harmonize.evidence import ColumnEvidence
 
@@ -38,15 +38,15 @@ class NumbersMode:
         return self.mode is not None and _in_range(text, self.mode)
 
 
-def numbers_mode(column: ColumnEvidence, parsed: Sequence[Parsed]) -> NumbersMode:
+def numbers_mode(column: ColumnEvidence, table: DateTable) -> NumbersMode:
     """The reading of the column's bare numbers, or NumbersMode() when they stay numbers."""
     counts = column.counts
-    is_digits = np.array([p.form == DIGITS for p in parsed], dtype=bool)
+    is_digits = table.of(DIGITS)
     if not is_digits.any():
         return NumbersMode()
-    texts = [p.text for p, d in zip(parsed, is_digits, strict=True) if d]
+    texts = [table.slow[i].text for i in np.flatnonzero(is_digits).tolist()]
     header = header_says_date(column.name)
-    dated = np.array([p.has_date for p in parsed], dtype=bool)
+    dated = table.has_date
     other = float(counts[dated].sum()) / max(int(counts.sum()), 1) >= OTHER_DATES
     why = (f"the header {column.name!r} names a date" if header else
            "other cells of the column are written dates")
@@ -68,7 +68,7 @@ def numbers_mode(column: ColumnEvidence, parsed: Sequence[Parsed]) -> NumbersMod
 
 def _compact(texts: list[str], hinted: bool, why: str) -> NumbersMode | None:
     lengths = {len(t) for t in texts}
-    if any(not t.isdigit() for t in texts) or not lengths <= {6, 7, 8} or len(lengths) != 1:
+    if any(not t.isdigit() for t in texts) or not lengths <= {6, 8} or len(lengths) != 1:
         return None
     parsed = [compact_parse(t) for t in texts]
     valid = [p.form != BAD and any(reading(p, o, 1950) for o in ORDERS) for p in parsed]
@@ -87,8 +87,8 @@ def _compact(texts: list[str], hinted: bool, why: str) -> NumbersMode | None:
                                 f"basic dates (YYYYMMDD)"])
         return None
     if hinted:
-        form = "basic ordinal dates (YYYYDDD)" if lengths == {7} else "compact dates (six digits)"
-        return NumbersMode("compact", 0.9, False, [f"{why}; its digit strings read as {form}"])
+        return NumbersMode("compact", 0.9, False,
+                           [f"{why}; its digit strings read as compact dates (six digits)"])
     return None
 
 

@@ -281,6 +281,8 @@ def _pair_reason(first: str, second: str) -> str:
 
 def _numeric(a: str, b: str, c: str, sep: str = " ") -> Parsed:
     widths = (len(a), len(b), len(c))
+    if max(widths) > 4:   # no day, month or year has five digits (nor thousands of them)
+        return bad("not a date: a component has too many digits")
     parts = (int(a), int(b), int(c))
     if parts == (0, 0, 0):
         return Parsed(ZERO, parts, widths)
@@ -476,12 +478,13 @@ def _epoch_text(whole: str, fraction: str, mode: str) -> str | tuple[str]:
 
 
 def compact_parse(text: str) -> Parsed:
-    """A digit string read as a compact date: 8 digits YYYYMMDD (ISO 8601 basic),
-    7 digits YYYYDDD (basic ordinal), 6 digits with the order open (YYMMDD or DDMMYY)."""
+    """A digit string read as a compact date: 8 digits YYYYMMDD (ISO 8601 basic) or 6
+    digits with the order open (YYMMDD or DDMMYY). Seven digits are never read: ISO 8601's
+    basic ordinal date (YYYYDDD) is too rare beside the 7-digit numbers a column holds
+    (references, amounts, the engine's own output of a text column), and reading one as a
+    date would not leave harmonised output unchanged when harmonised again."""
     if len(text) == 8 and text.isdigit():
         return Parsed(FIXED, (int(text[:4]), int(text[4:6]), int(text[6:])), (4, 2, 2))
-    if len(text) == 7 and text.isdigit():
-        return Parsed(ORDINAL, (int(text[:4]), int(text[4:])), (4, 3))
     if len(text) == 6 and text.isdigit():
         return Parsed(OPEN, (int(text[:2]), int(text[2:4]), int(text[4:])), (2, 2, 2), sep="")
     return bad("not a compact date")
