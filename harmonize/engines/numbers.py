@@ -32,6 +32,13 @@ Convention keys (plain values; edit them in a plan file):
                         both.
 ``likely_decimal_mark`` ``"."``, ``","`` or null: the reading offered as ``best`` for a
                         listed value (from a locale hint); it never converts a value.
+``ungrouped_digits``    an integer or null: the column (or group) writes whole numbers of
+                        this many digits without group marks ("12500"), so an ambiguous
+                        value whose group reading has no more digits ("1.234", "12,345")
+                        is read with its own mark as the decimal mark, unless the decided
+                        mark is the other one or its currency has no minor units. A writer
+                        with CLDR minimumGroupingDigits 2 (es, pl) writes "5000" but
+                        "12.345", so "5000" settles "1.234" and not "12.345".
 ``trailing_zeros``      ``"drop"`` (default) or ``"keep"`` the fractional zeros as written.
 ``percent``             true: values are percentages, kept as written (``12.5%`` -> 12.5),
                         and the column's unit is "percent".
@@ -49,10 +56,11 @@ locale hint (country column, ``Options.locale``/``default_region``) decide a col
 group that no value decides; ``trailing_zeros`` ("drop"/"keep") sets that key.
 
 Evidence the decision weighs: values that only one notation reads, the role each mark is
-seen in, workbook number cells (``ColumnEvidence.typed``, plain already) and formats, the
-CLDR notation of each row's country (babel), the header (currency codes and signs), a
-column of currency codes, and the run options. Typed workbook numbers are not counted as
-evidence about the text cells beside them.
+seen in, whole numbers written without group marks, workbook number cells
+(``ColumnEvidence.typed``, plain already) and formats, the CLDR notation of each row's
+country (babel), the header (currency codes and signs), a column of currency codes, and
+the run options. Typed workbook numbers are not counted as evidence about the text cells
+beside them.
 """
 
 from __future__ import annotations
@@ -64,6 +72,8 @@ from functools import cache
 from typing import Any, ClassVar
 
 import numpy as np
+import pyarrow as pa
+import pyarrow.compute as pc
 from babel import Locale
 
 from harmonize.context import Context, Split
@@ -130,7 +140,7 @@ def _resolve_from(codes: frozenset[str], known: frozenset[str]) -> str | None:
 def _decide_currency(column: ColumnEvidence, forms: Forms, context: Context,
                      number: np.ndarray) -> CurrencyDecision:
     tokens = forms.currency
-    present = number & (tokens != "")
+    present = number & forms.has_currency
     if not present.any():
         return _currency_from_formats(column)
     written = sorted(set(tokens[present].tolist()))
@@ -254,11 +264,11 @@ def _identifier_like(column: ColumnEvidence, forms: Forms) -> bool:
     """Codes that happen to be digits (leading zeros, fixed width, 16+ digits)."""
     counts, total = column.counts, max(column.total, 1)
     bare = forms.bare_digits
-    texts, lengths = forms.text, forms.length
+    lengths = forms.length
     leading_zero = bare & (lengths > 1) & forms.zero_first
-    long_digits = np.zeros(len(texts), dtype=bool)
+    long_digits = np.zeros(len(forms), dtype=bool)
     longer = np.flatnonzero(lengths >= 16)
-    long_digits[longer] = [texts[i].isdigit() for i in longer.tolist()]
+    long_digits[longer] = [forms.text_at(i).isdigit() for i in longer.tolist()]
     if counts[leading_zero | long_digits].sum() >= IDENTIFIER_SHARE * total:
         return True
     number_cells = counts[forms.is_number].sum()
@@ -269,15 +279,17 @@ def _identifier_like(column: ColumnEvidence, forms: Forms) -> bool:
         return True
     widths = set(lengths[bare].tolist())
     if len(widths) == 1 and widths.pop() >= FIXED_WIDTH_MIN and bare.sum() >= 20:
-        round_share = np.mean([t.endswith("0") for t in texts[bare]])
+        round_share = np.mean(pc.ends_with(forms.text_array.filter(pa.array(bare)), "0"))
         return bool(round_share < 0.5)
     return False
 
 
 def _unit_lookalike(forms: Forms, number: np.ndarray) -> bool:
     """Every amount carries the same one-letter suffix ("300 K"): more likely a unit."""
-    mags = set(forms.magnitude[number].tolist())
-    no_currency = not (forms.currency[number] != "").any()
+    mags = set(forms.magnitude[number & forms.has_magnitude].tolist())
+    if (number & ~forms.has_magnitude).any():
+        mags.add("")
+    no_currency = not forms.has_currency[number].any()
     return len(mags) == 1 and len(next(iter(mags))) == 1 and no_currency
 
 
@@ -359,9 +371,6 @@ def _kind_confidence(forms: Forms, fit: float) -> float:
     return base * (1.0 - 0.5 * (1.0 - fit))
 
 
-_NO_DIGITS = str.maketrans("", "", "0123456789")  # deleting digits first: a short set()
-
-
 def _group_marks_seen(forms: Forms, mark: str | None) -> list[str]:
     """Group marks the values use (space stands for every space look-alike)."""
     status = forms.status
@@ -371,7 +380,8 @@ def _group_marks_seen(forms: Forms, mark: str | None) -> list[str]:
         readings = ((mark, (status != NOT_NUMBER) & (status != AMBIGUOUS)),)
     seen: set[str] = set()
     for decimal, mask in readings:
-        seen |= set("".join(forms.body[mask].tolist()).translate(_NO_DIGITS)) - {decimal}
+        # a body holds digits and these marks only (numbers_forms.SPLIT_PATTERN)
+        seen |= forms.chars_in(mask) - {decimal}
     return sorted(seen)
 
 

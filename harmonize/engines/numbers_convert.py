@@ -1,9 +1,11 @@
 """Converting distinct values under a numbers convention (see ``numbers`` for the keys).
 
-Everything that can be is done on whole arrays: the mark each value is read with, its
-plain output text (regex rewrites in pyarrow), the currency each sign names and the
-checks against the convention. Python touches a value one at a time only to write the
-reason for an unresolved one, or to scale a value by a magnitude word or exponent.
+The values of the fast shape ("-1.234,50") are written by ``numbers_fast`` with byte
+operations over all of them. The rest take the full reading, where everything that can
+be is done on whole arrays too: the mark each value is read with, its plain output text
+(regex rewrites in pyarrow), the currency each sign names and the checks against the
+convention. Python touches a value one at a time only to write the reason for an
+unresolved one, or to scale a value by a magnitude word or exponent.
 """
 
 from __future__ import annotations
@@ -20,6 +22,7 @@ from babel import numbers as babel_numbers
 
 from harmonize.engines.base import Converted, Outcome
 from harmonize.engines.numbers_currency import ranked_candidates, resolve_alone
+from harmonize.engines.numbers_fast import fast_convert
 from harmonize.engines.numbers_forms import (
     AMBIGUOUS,
     COMMA_ONLY,
@@ -55,6 +58,10 @@ def settled_marks(convention: Mapping[str, Any]) -> Sequence[str]:
     return (".", ",") if settled is None else settled
 
 
+def ungrouped_digits_of(convention: Mapping[str, Any]) -> int:
+    return int(convention.get("ungrouped_digits") or 0)
+
+
 def choose_marks(forms: Forms, mark: str | None,
                  settled: Sequence[str] = (".", ",")) -> np.ndarray:
     """Per value: the mark to read it with ('' where the convention does not read it)."""
@@ -68,9 +75,22 @@ def choose_marks(forms: Forms, mark: str | None,
     chosen[(status != NOT_NUMBER) & (status != wrong) & (status != AMBIGUOUS)] = mark
     ambiguous = np.flatnonzero(status == AMBIGUOUS)
     if len(ambiguous):
-        swapped = np.array([forms.swapped_mark(i) for i in ambiguous.tolist()], dtype=object)
+        swapped = forms.swapped_marks(ambiguous)
         chosen[ambiguous[np.isin(swapped, list(settled))]] = mark
     return chosen
+
+
+def read_ungrouped(forms: Forms, chosen: np.ndarray, mark: str | None, ungrouped: int) -> None:
+    """An ambiguous value still unread whose group reading has ``ungrouped`` digits or
+    fewer is read with its own mark as the decimal mark, unless the column's decided
+    mark is the other one (see ``numbers_marks.ungrouped_digits``). A value naming a
+    currency is left to it ("¥41,787": yen have no minor unit, yuan have)."""
+    open_ = np.flatnonzero((forms.status == AMBIGUOUS) & (chosen == "") & ~forms.has_currency)
+    if not ungrouped or not len(open_):
+        return
+    swapped = forms.swapped_marks(open_)
+    read = (forms.body_length[open_] - 1 <= ungrouped) & (mark is None or swapped == mark)
+    chosen[open_[read]] = swapped[read]
 
 
 def plain_texts(digits: np.ndarray, shift: np.ndarray, negative: np.ndarray,
@@ -81,11 +101,12 @@ def plain_texts(digits: np.ndarray, shift: np.ndarray, negative: np.ndarray,
     fractional zeros, sign); scaled ones go through ``Decimal``.
     """
     text = pa.array(digits.tolist(), type=pa.string())
+    # "0" before a leading "." first: ".0" loses its fraction below and must leave "0"
+    text = _rewrite_where(text, r"^\.", r"^\.", "0.")
     if not keep_trailing_zeros:
         text = _rewrite_where(text, r"\.\d*0$", r"(\.\d*?)0+$", r"\1")
         text = _rewrite_where(text, r"\.$", r"\.$", "")
     text = _rewrite_where(text, r"^0\d", r"^0+(\d)", r"\1")
-    text = _rewrite_where(text, r"^\.", r"^\.", "0.")
     is_zero = np.asarray(pc.match_substring_regex(text, r"^0(\.0*)?$"), dtype=bool)
     out = np.asarray(text.to_numpy(zero_copy_only=False), dtype=object)
     signed = negative & ~is_zero
@@ -125,20 +146,60 @@ def _minor_digits(code: str) -> int | None:
 def value_currencies(forms: Forms, convention: Mapping[str, Any]) -> np.ndarray:
     """Per value: the ISO code its sign names ("" none, UNKNOWN if not resolved)."""
     symbols = convention.get("symbols") or {}
-    tokens, inverse = distinct_inverse(forms.currency)
-    codes = [resolve_alone(t) or symbols.get(t) or UNKNOWN if t else "" for t in tokens]
-    return np.asarray(codes, dtype=object)[inverse] if len(tokens) else np.zeros(0, object)
+    codes = np.full(len(forms), "", dtype=object)
+    named = forms.has_currency
+    if named.any():
+        tokens, inverse = distinct_inverse(forms.currency[named])
+        found = [resolve_alone(t) or symbols.get(t) or UNKNOWN for t in tokens]
+        codes[named] = np.asarray(found, dtype=object)[inverse]
+    return codes
 
 
 def convert_amounts(values: Sequence[str], convention: Mapping[str, Any]) -> Converted:
-    """Convert distinct values under a convention."""
+    """Convert distinct values under a convention.
+
+    The values of the fast shape ("-1.234,50") are written in one pass over all of them
+    (``numbers_fast``); the rest are read in full (``convert_amounts_full``, which gives
+    the same result for every value).
+    """
+    values = values if isinstance(values, list) else list(values)
+    keep = convention.get("trailing_zeros", "drop") == "keep"
+    texts, read = fast_convert(values, decimal_mark_of(convention), settled_marks(convention),
+                               keep)
+    if read.all():
+        result = Converted(text=texts, outcome=np.full(len(values), Outcome.CONVERTED,
+                                                        dtype=np.int8))
+    else:
+        rest = np.flatnonzero(~read)
+        slow = convert_amounts_full([values[i] for i in rest.tolist()], convention)
+        texts[rest] = slow.text
+        outcome = np.full(len(values), Outcome.CONVERTED, dtype=np.int8)
+        outcome[rest] = slow.outcome
+        at = rest.tolist()
+        result = Converted(text=texts.tolist(), outcome=outcome,
+                           reasons={at[i]: r for i, r in slow.reasons.items()},
+                           candidates={at[i]: c for i, c in slow.candidates.items()},
+                           best={at[i]: b for i, b in slow.best.items()})
+        if "currency" in slow.extra:
+            codes = np.full(len(values), convention.get("currency") or "", dtype=object)
+            codes[rest] = slow.extra["currency"]
+            result.extra["currency"] = codes.tolist()
+    if convention.get("currency_mode") == "mixed" and "currency" not in result.extra:
+        result.extra["currency"] = [convention.get("currency") or ""] * len(values)
+    return result
+
+
+def convert_amounts_full(values: Sequence[str], convention: Mapping[str, Any]) -> Converted:
+    """Convert distinct values under a convention, each read in full."""
     forms = analyse(list(values))
     n = len(forms)
     result = Converted.empty(n)
     keep = convention.get("trailing_zeros", "drop") == "keep"
-    chosen = choose_marks(forms, decimal_mark_of(convention), settled_marks(convention))
+    mark = decimal_mark_of(convention)
+    chosen = choose_marks(forms, mark, settled_marks(convention))
     codes = value_currencies(forms, convention)
-    _whole_currencies(forms, codes, chosen)
+    _whole_currencies(forms, codes, chosen)   # a currency without decimals comes first
+    read_ungrouped(forms, chosen, mark, ungrouped_digits_of(convention))
     digits = np.where(chosen == ",", forms.comma_digits, forms.dot_digits)
     digits[chosen == ""] = "0"  # unreadable values ("1.2.3e1") have no digits to scale
     texts = plain_texts(digits, forms.shift, forms.negative, keep)
@@ -227,7 +288,9 @@ def parse_amounts(values: Sequence[str], convention: Mapping[str, Any]) -> list[
     number itself (a currency or percent sign does not change it).
     """
     forms = analyse(list(values))
-    chosen = choose_marks(forms, decimal_mark_of(convention), settled_marks(convention))
+    mark = decimal_mark_of(convention)
+    chosen = choose_marks(forms, mark, settled_marks(convention))
+    read_ungrouped(forms, chosen, mark, ungrouped_digits_of(convention))
     return [to_decimal(forms.digits_for(i, chosen[i]), int(forms.shift[i]),
                        bool(forms.negative[i])) if chosen[i] else None
             for i in range(len(forms))]

@@ -1,8 +1,10 @@
 """Reading the written form of amounts, vectorised over distinct values.
 
-Each distinct value is split once by one regular expression (pandas ``str.extract``)
-into sign, currency, number body, exponent, magnitude word, percent sign and trailing
-minus. The body is then tested against the two families of conventions:
+Most amounts are a number body alone, after at most a "-" ("-1.234,50", "12"): two
+regular expressions over all values (``FAST_SHAPE``, RE2 in pyarrow) and byte counts
+classify those. Every other value is split once by one regular expression into sign,
+currency, number body, exponent, magnitude word, percent sign and trailing minus, and
+its body is tested against the two families of conventions:
 
 * ``"."`` family: ``.`` is the decimal mark; ``,`` (3-digit or lakh 2-2-3 grouping),
   a space of any kind or an apostrophe (``'`` or ``’``) groups digits.
@@ -18,7 +20,7 @@ from __future__ import annotations
 import re
 from dataclasses import dataclass
 from decimal import Context, Decimal
-from functools import cache
+from functools import cache, cached_property
 from typing import Any
 
 import numpy as np
@@ -26,6 +28,7 @@ import pandas as pd
 import pyarrow as pa
 import pyarrow.compute as pc
 
+from harmonize.engines.numbers_bytes import COMMA, DOT, MINUS, ZERO, ByteView
 from harmonize.engines.numbers_currency import iso_codes, literal, sign_pattern
 from harmonize.locales import load_entries
 
@@ -65,6 +68,16 @@ _INT_DOT = "|".join([r"\d+", _grouped(","), _grouped(" "), _grouped("'"), _LAKH]
 _INT_COMMA = "|".join([r"\d+", _grouped(r"\."), _grouped(" "), _grouped("'")])
 DOT_BODY = re.compile(rf"(?:{_INT_DOT})(?:\.\d+)?|\.\d+")
 COMMA_BODY = re.compile(rf"(?:{_INT_COMMA})(?:,\d+)?|,\d+")
+
+# The fast shape most amounts take: a number body alone, in ASCII, after at most a "-",
+# with no leading zero ("0,5" and "12" but not "007"). FAST_SHAPE[m] matches exactly
+# the values of that shape which the m family reads (the families above, with ``\d+``
+# narrowed to ``0|[1-9]\d*``), so the two matches give a value's status; a value that
+# neither matches, or 16 and more bare digits, is read in full.
+WHOLE = {".": "|".join([r"0|[1-9]\d*", _grouped(","), _grouped(" "), _grouped("'"), _LAKH]),
+         ",": "|".join([r"0|[1-9]\d*", _grouped(r"\."), _grouped(" "), _grouped("'")])}
+FAST_SHAPE = {".": rf"^-?(?:(?:{WHOLE['.']})(?:\.\d+)?|\.\d+)$",
+              ",": rf"^-?(?:(?:{WHOLE[',']})(?:,\d+)?|,\d+)$"}
 
 
 @dataclass(frozen=True)
@@ -151,45 +164,252 @@ class _Affixes:
                         dtype=dtype)[self.inverse]
 
 
-@dataclass(frozen=True)
+@dataclass(eq=False)
 class Forms:
-    """The written form of each distinct value (arrays aligned with the values)."""
+    """The written form of each distinct value (arrays aligned with the values).
 
-    text: np.ndarray        # folded, stripped text
-    body: np.ndarray        # the digits and marks of the number itself
+    Values of the fast shape (``FAST_SHAPE``) are classified from their raw text; the
+    others carry their parts from the full reading. Text arrays are kept in Arrow and
+    turned into Python strings only when a caller asks for them.
+    """
+
     status: np.ndarray      # NOT_NUMBER / SAME / DOT_ONLY / COMMA_ONLY / AMBIGUOUS
-    dot_digits: np.ndarray  # body read with "." as decimal mark, as Decimal-ready text
-    comma_digits: np.ndarray
     shift: np.ndarray       # power of ten from exponent and magnitude word
     negative: np.ndarray
     percent: np.ndarray
-    currency: np.ndarray    # the currency sign or code as written ("" when none)
+    has_currency: np.ndarray
     bare_digits: np.ndarray  # nothing but digits: "1234", "007"
-    magnitude: np.ndarray   # magnitude word as written ("" when none)
+    has_magnitude: np.ndarray
     length: np.ndarray      # characters in ``text``
     zero_first: np.ndarray  # ``text`` starts with "0"
+    raw: pa.Array           # the values as given
+    fast: np.ndarray        # read by the fast shape (text is the raw value)
+    slow_text: pa.Array     # folded, stripped text of the other values, in order
+    slow_body: pa.Array     # their number bodies
+    slow_currency: np.ndarray   # their currency signs or codes ("" when none)
+    slow_magnitude: np.ndarray  # their magnitude words ("" when none)
 
     def __len__(self) -> int:
         return len(self.status)
 
+    def _spread(self, slow_part: np.ndarray) -> np.ndarray:
+        full = np.full(len(self), "", dtype=object)
+        full[~self.fast] = slow_part
+        return full
+
+    @cached_property
+    def currency(self) -> np.ndarray:
+        """The currency sign or code as written ("" when none)."""
+        return self._spread(self.slow_currency)
+
+    @cached_property
+    def magnitude(self) -> np.ndarray:
+        """The magnitude word as written ("" when none)."""
+        return self._spread(self.slow_magnitude)
+
     @property
     def is_number(self) -> np.ndarray:
         return self.status != NOT_NUMBER
+
+    def _merged(self, fast_part: pa.Array, slow_part: pa.Array) -> pa.Array:
+        if self.fast.all():
+            return fast_part
+        return pc.replace_with_mask(fast_part, pa.array(~self.fast), slow_part)
+
+    @cached_property
+    def text_array(self) -> pa.Array:
+        """Folded, stripped text."""
+        return self._merged(self.raw, self.slow_text)
+
+    @cached_property
+    def body_array(self) -> pa.Array:
+        """The digits and marks of the number itself."""
+        return self._merged(pc.utf8_ltrim(self.raw, "-"), self.slow_body)
+
+    @cached_property
+    def text(self) -> np.ndarray:
+        return _strings(self.text_array)
+
+    @cached_property
+    def body(self) -> np.ndarray:
+        return _strings(self.body_array)
+
+    @cached_property
+    def dot_digits(self) -> np.ndarray:
+        """Body read with "." as decimal mark, as Decimal-ready text."""
+        return _strings(_without(self.body_array, ", '"))
+
+    @cached_property
+    def comma_digits(self) -> np.ndarray:
+        return _strings(pc.replace_substring(_without(self.body_array, ". '"), ",", "."))
+
+    def text_at(self, i: int) -> str:
+        return str(self.text_array[i].as_py())
+
+    def has_char(self, char: str) -> np.ndarray:
+        """Per value: whether its body holds ``char`` (one of the marks ". , ' space")."""
+        if char not in self._chars:
+            # a fast value's body is its raw text without the sign
+            chars = "".join(c for c in ".,' " if c not in self._chars)
+            for c, found in ByteView.of(self.raw).holds(chars).items():
+                self._chars[c] = found & self.fast
+            if not self.fast.all():
+                for c, found in ByteView.of(self.slow_body).holds(chars).items():
+                    self._chars[c][~self.fast] = found
+        return self._chars[char]
+
+    @cached_property
+    def _chars(self) -> dict[str, np.ndarray]:
+        return {}
+
+    def chars_in(self, mask: np.ndarray, chars: str = ".,' ") -> set[str]:
+        """Which of ``chars`` the bodies of the values under ``mask`` hold."""
+        if not mask.any():
+            return set()
+        return {c for c in chars if (mask & self.has_char(c)).any()}
+
+    @cached_property
+    def body_length(self) -> np.ndarray:
+        """Characters in each body."""
+        found = self.length - self.negative   # a fast value: its raw text less the sign
+        if not self.fast.all():
+            found[~self.fast] = np.asarray(pc.utf8_length(self.slow_body), dtype=np.int64)
+        return found
+
+    @cached_property
+    def body_zero_first(self) -> np.ndarray:
+        """Whether each body starts with "0"."""
+        return ByteView.of(self.body_array).first_bytes() == ZERO
 
     def digits_for(self, i: int, mark: str) -> str:
         return self.dot_digits[i] if mark == "." else self.comma_digits[i]
 
     def swapped_mark(self, i: int) -> str:
         """The one mark of an ambiguous value ("." in "1.234")."""
-        return "." if "." in self.body[i] else ","
+        return "." if self.has_char(".")[i] else ","
+
+    def swapped_marks(self, indices: np.ndarray) -> np.ndarray:
+        return np.where(self.has_char(".")[indices], ".", ",").astype(object)
 
 
 def analyse(values: list[str] | np.ndarray) -> Forms:
-    """Split every distinct value into its parts and classify its body."""
-    text = pc.utf8_trim_whitespace(pa.array(list(values), type=pa.string()))
+    """Split every distinct value into its parts and classify its body.
+
+    Values of the fast shape are classified from their raw text (``_fast_statuses``);
+    the rest are read in full (``analyse_full`` reads every value that way)."""
+    raw = pa.array(values, type=pa.string())
+    if len(raw) == 0:
+        return analyse_full([])
+    view = ByteView.of(raw)
+    status, digits_only, held = _fast_statuses(raw, view)
+    fast = status != NOT_NUMBER
+    n = len(raw)
+    first = view.first_bytes()
+    empty = pa.array([], type=pa.string())
+    forms = Forms(
+        status=status, shift=np.zeros(n, np.int64), negative=fast & (first == MINUS),
+        percent=np.zeros(n, bool), has_currency=np.zeros(n, bool),
+        bare_digits=fast & digits_only, has_magnitude=np.zeros(n, bool),
+        length=view.lengths, zero_first=first == ZERO, raw=raw, fast=fast,
+        slow_text=empty, slow_body=empty, slow_currency=np.zeros(0, object),
+        slow_magnitude=np.zeros(0, object))
+    if fast.all():   # a fast value's body is its raw text less the sign: marks known
+        forms._chars.update(held)
+    else:
+        _fill_slow(forms, _full_parts(raw.filter(pa.array(~fast))))
+    return forms
+
+
+def _fast_statuses(raw: pa.Array, view: ByteView
+                   ) -> tuple[np.ndarray, np.ndarray, dict[str, np.ndarray]]:
+    """(status, digits only, which of the marks ". , ' space" it holds) per value; the
+    status of a value not of the fast shape is NOT_NUMBER (it is read in full).
+
+    One notation's FAST_SHAPE runs over every value, the other's only over the values the
+    first does not read: a value both read is one without marks (SAME) or one mark before
+    exactly three digits ("1.234", "-12,500": AMBIGUOUS), which its bytes show.
+    """
+    first, other = _likelier_family(raw)
+    read_first = _matches(raw, FAST_SHAPE[first])
+    read_other = np.zeros(len(raw), bool)
+    unread = ~read_first
+    if unread.all():
+        read_other = _matches(raw, FAST_SHAPE[other])
+    elif unread.any():
+        read_other[unread] = _matches(raw.filter(pa.array(unread)), FAST_SHAPE[other])
+    digits_only = np.asarray(pc.ascii_is_decimal(raw), dtype=bool)
+    lengths = view.lengths
+    fast = (read_first | read_other) & ~(digits_only & (lengths >= LONG_DIGITS))
+    held = view.holds(".,' ")
+    marked = held["."] | held[","]
+    # one mark four bytes from the end, one to three digits before it, the first not 0
+    signed = view.first_bytes() == MINUS
+    body = lengths - signed
+    ends, starts = view.offsets[1:], view.offsets[:-1]
+    short = read_first & marked & (body >= 5) & (body <= 7)
+    mark_at = view.byte_at(ends - 4, short)
+    lead = view.byte_at(starts + signed, short)
+    ambiguous = short & ((mark_at == DOT) | (mark_at == COMMA)) & (lead != ZERO)
+    status = np.full(len(raw), NOT_NUMBER, dtype=np.int8)
+    status[read_first & ~marked] = SAME
+    status[read_first & marked] = DOT_ONLY if first == "." else COMMA_ONLY
+    status[ambiguous] = AMBIGUOUS
+    status[read_other] = COMMA_ONLY if first == "." else DOT_ONLY
+    status[~fast] = NOT_NUMBER
+    return status, digits_only, held
+
+
+def _likelier_family(raw: pa.Array, sample: int = 2000) -> tuple[str, str]:
+    """The notation that reads more of the first values first (either order gives the
+    same statuses; this one runs the second pattern over fewer values)."""
+    head = raw.slice(0, sample)
+    dots, commas = (int(_matches(head, FAST_SHAPE[m]).sum()) for m in FAMILIES)
+    return (".", ",") if dots >= commas else (",", ".")
+
+
+def _fill_slow(forms: Forms, parts: dict[str, Any]) -> None:
+    """Put the full reading of the values outside the fast shape in their places."""
+    slow = ~forms.fast
+    for name in ("status", "shift", "negative", "percent", "has_currency", "bare_digits",
+                 "has_magnitude", "length", "zero_first"):
+        getattr(forms, name)[slow] = parts[name]
+    forms.slow_text, forms.slow_body = parts["text"], parts["body"]
+    forms.slow_currency, forms.slow_magnitude = parts["currency"], parts["magnitude"]
+
+
+def analyse_full(values: list[str] | np.ndarray) -> Forms:
+    """``analyse`` with every value read in full (the reference for the fast shape)."""
+    raw = pa.array(list(values), type=pa.string())
+    n = len(raw)
+    forms = Forms(
+        status=np.zeros(n, np.int8), shift=np.zeros(n, np.int64), negative=np.zeros(n, bool),
+        percent=np.zeros(n, bool), has_currency=np.zeros(n, bool),
+        bare_digits=np.zeros(n, bool), has_magnitude=np.zeros(n, bool),
+        length=np.zeros(n, np.int64), zero_first=np.zeros(n, bool), raw=raw,
+        fast=np.zeros(n, bool), slow_text=raw, slow_body=raw,
+        slow_currency=np.full(n, "", dtype=object), slow_magnitude=np.full(n, "", dtype=object))
+    if n:
+        _fill_slow(forms, _full_parts(raw))
+    return forms
+
+
+def _folded(text: pa.Array) -> pa.Array:
+    """Space, apostrophe, minus and digit look-alikes folded to one form (FOLD_MAP).
+
+    Every look-alike but the tab is outside ASCII: a byte scan usually shows there is
+    nothing to fold."""
+    data = ByteView.of(text).data
+    if not ((data >= 0x80).any() or (data == ord("\t")).any()):
+        return text
     if pc.any(pc.match_substring_regex(text, FOLD_CLASS)).as_py():
         for old, new in FOLD_PAIRS:
             text = pc.replace_substring(text, old, new)
+    return text
+
+
+def _full_parts(raw: pa.Array) -> dict[str, Any]:
+    """Every part of each value, read by the full patterns (see the module docstring)."""
+    text = _folded(pc.utf8_trim_whitespace(raw))
     matched, pre_text, num, post_text = _split(text)
     before = _Affixes(pre_text, prefix_regex(), _PREFIX)
     after = _Affixes(post_text, suffix_regex(), _SUFFIX)
@@ -212,15 +432,14 @@ def analyse(values: list[str] | np.ndarray) -> Forms:
                                            "")
     dot_ok = _fullmatch(body, DOT_BODY) & valid
     comma_ok = _fullmatch(body, COMMA_BODY) & valid
-    dot_digits = _without(body, ", '")
-    comma_digits = pc.replace_substring(_without(body, ". '"), ",", ".")
     bare = _fullmatch(body, re.compile(r"\d+")) & valid & (n_signs == 0) & ~named & ~(
         has["pct"] | has["mag"] | has["exp"])
     too_long = bare & (np.asarray(pc.utf8_length(body).fill_null(0)) >= LONG_DIGITS)
     dot_ok &= ~too_long
     comma_ok &= ~too_long
 
-    dot_np, comma_np = _strings(dot_digits), _strings(comma_digits)
+    dot_np = _strings(_without(body, ", '"))
+    comma_np = _strings(pc.replace_substring(_without(body, ". '"), ",", "."))
     status = np.full(len(text), NOT_NUMBER, dtype=np.int8)
     same = dot_np == comma_np
     status[dot_ok & comma_ok & same] = SAME
@@ -229,14 +448,18 @@ def analyse(values: list[str] | np.ndarray) -> Forms:
     status[comma_ok & ~dot_ok] = COMMA_ONLY
 
     exp = after.spread("exp", lambda e: int(e[1:]) if e else 0, np.int64)
-    shift = exp + _magnitude_powers(magnitude)
     minus = before.spread("sign1", _is_minus, bool) | before.spread("sign2", _is_minus, bool)
-    negative = minus | has["trail"] | has["open"]
-    return Forms(text=_strings(text), body=_strings(body), status=status, dot_digits=dot_np,
-                 comma_digits=comma_np, shift=shift, negative=negative, percent=has["pct"],
-                 currency=currency, bare_digits=bare, magnitude=magnitude,
-                 length=np.asarray(pc.utf8_length(text), dtype=np.int64),
-                 zero_first=np.asarray(pc.starts_with(text, "0"), dtype=bool))
+    return {"status": status, "shift": exp + _magnitude_powers(magnitude),
+            "negative": minus | has["trail"] | has["open"], "percent": has["pct"],
+            "currency": currency, "has_currency": named, "bare_digits": bare,
+            "magnitude": magnitude, "has_magnitude": has["mag"],
+            "length": np.asarray(pc.utf8_length(text), dtype=np.int64),
+            "zero_first": np.asarray(pc.starts_with(text, "0"), dtype=bool),
+            "text": text, "body": body.fill_null("")}
+
+
+def _matches(array: pa.Array, pattern: str) -> np.ndarray:
+    return np.asarray(pc.match_substring_regex(array, pattern), dtype=bool)
 
 
 def _is_minus(sign: str) -> bool:

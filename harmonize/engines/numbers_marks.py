@@ -6,7 +6,7 @@ See ``harmonize.engines.numbers`` for the convention keys this produces
 
 from __future__ import annotations
 
-from collections.abc import Sequence
+from collections.abc import Callable, Sequence
 from dataclasses import dataclass, field
 from functools import cache
 from typing import Any
@@ -31,10 +31,42 @@ from harmonize.territory import territory_of
 
 ALL_MARKS = frozenset({".", ","})
 STRAY_SHARE = 0.02        # deciding cells of the other notation a column may hold as errors
+MIN_UNGROUPED = 4         # whole numbers shorter than this are never grouped: no evidence
 
 
 def _other(mark: str) -> str:
     return "," if mark == "." else "."
+
+
+def ungrouped_digits(forms: Forms, mask: np.ndarray) -> tuple[int, int, str]:
+    """(most digits, how many values, an example) of the whole numbers under ``mask``
+    written without group marks ("12500": 5 digits); (0, 0, "") when there is none of
+    MIN_UNGROUPED digits or more, or when a value there shows a group mark.
+
+    A writer groups a whole number of L digits when L >= 3 + m, m its minimum grouping
+    digits (CLDR ``minimumGroupingDigits``: 1 for most locales, 2 for es and pl, which
+    write "1234" but "12.345"; checkvalues.md A3). An ungrouped number of G digits shows
+    G < 3 + m, so the mark of an ambiguous value whose group reading has L <= G digits
+    ("1.234" beside "5000") cannot group: it is a decimal mark.
+    """
+    status = forms.status
+    spaced = forms.has_char(" ") | forms.has_char("'")
+    shown = mask & (spaced | ((status == DOT_ONLY) & forms.has_char(","))
+                    | ((status == COMMA_ONLY) & forms.has_char(".")))
+    if shown.any():
+        return 0, 0, ""
+    whole = mask & (status == SAME) & ~spaced & (forms.body_length >= MIN_UNGROUPED)
+    if whole.any():
+        whole &= ~forms.body_zero_first
+    if not whole.any():
+        return 0, 0, ""
+    lengths = np.where(whole, forms.body_length, 0)
+    return int(lengths.max()), int(whole.sum()), forms.text_at(int(np.argmax(lengths)))
+
+
+def group_reading_digits(forms: Forms, indices: np.ndarray) -> np.ndarray:
+    """Digits of the group reading of ambiguous values ("12.345" -> 5)."""
+    return forms.body_length[indices] - 1
 
 
 @dataclass
@@ -45,6 +77,14 @@ class MarkTally:
     values: dict[int, int]
     examples: dict[int, str]
     seen: dict[int, frozenset[str]]   # marks present in the deciding values, per status
+    ungrouped: tuple[int, int, str] = (0, 0, "")   # see ``ungrouped_digits``
+    ambiguous_digits: np.ndarray = field(default_factory=lambda: np.zeros(0, np.int64))
+
+    @property
+    def covered(self) -> int:
+        """Ambiguous values whose group reading has no more digits than the ungrouped
+        whole numbers show."""
+        return int((self.ambiguous_digits <= self.ungrouped[0]).sum())
 
     @classmethod
     def of(cls, forms: Forms, counts: np.ndarray, skip: np.ndarray | None = None) -> MarkTally:
@@ -54,10 +94,16 @@ class MarkTally:
             mask = keep & (forms.status == status)
             cells[status] = int(counts[mask].sum())
             values[status] = int(mask.sum())
-            if mask.any():
-                examples[status] = str(forms.text[np.flatnonzero(mask)[0]])
-            seen[status] = frozenset(ALL_MARKS & set("".join(forms.body[mask].tolist())))
-        return cls(cells, values, examples, seen)
+            if values[status]:
+                examples[status] = forms.text_at(int(np.argmax(mask)))
+            seen[status] = frozenset(forms.chars_in(mask, ".,"))
+        tally = cls(cells, values, examples, seen)
+        if values[AMBIGUOUS] and not (values[DOT_ONLY] or values[COMMA_ONLY]):
+            tally.ungrouped = ungrouped_digits(forms, keep & forms.is_number)
+            # a value naming a currency is left to it (yen have no minor unit)
+            ambiguous = np.flatnonzero(keep & (forms.status == AMBIGUOUS) & ~forms.has_currency)
+            tally.ambiguous_digits = group_reading_digits(forms, ambiguous)
+        return tally
 
     def settled(self, mark: str) -> list[str]:
         """Marks an ambiguous value may hold and still be read under ``mark``.
@@ -124,10 +170,11 @@ class MarkDecision:
     settled: list[str] = field(default_factory=lambda: sorted(ALL_MARKS))
     per_label: dict[str, dict[str, Any]] = field(default_factory=dict)
     split: Split | None = None
+    ungrouped: int | None = None
 
     def convention(self) -> dict[str, Any]:
         return {"decimal_mark": self.mark or UNDECIDED, "likely_decimal_mark": self.likely,
-                "settled_marks": self.settled}
+                "settled_marks": self.settled, "ungrouped_digits": self.ungrouped}
 
 
 HINT_DECIDES = 0.93  # a named country's CLDR mark, applied when no value decides
@@ -170,6 +217,8 @@ def _flat_marks(tally: MarkTally, hint: str | None, trust_hint: bool) -> MarkDec
     if not ambiguous:
         return MarkDecision(None, hint, 0.99,
                             ["no value depends on the decimal mark (all read alike)"])
+    if tally.covered and not (trust_hint and hint):
+        return _ungrouped_marks(tally, hint)
     if trust_hint and hint:
         return MarkDecision(hint, hint, HINT_DECIDES, [
             f"no value decides the decimal mark and none contradicts {mark_name(hint)}, "
@@ -177,6 +226,21 @@ def _flat_marks(tally: MarkTally, hint: str | None, trust_hint: bool) -> MarkDec
     return MarkDecision(None, hint, 0.95, [
         f"{tally.values[AMBIGUOUS]} value(s) such as {tally.examples[AMBIGUOUS]!r} read "
         "differently with '.' or ',' as the decimal mark and no value decides: listed"])
+
+
+def _ungrouped_marks(tally: MarkTally, hint: str | None) -> MarkDecision:
+    """No value decides the mark, but whole numbers written without group marks show
+    that the ambiguous values with as many digits or fewer are not grouped."""
+    digits, count, example = tally.ungrouped
+    listed = tally.values[AMBIGUOUS] - tally.covered
+    evidence = [f"{count} whole number(s) are written without group marks (e.g. {example!r}): "
+                f"{tally.covered} ambiguous value(s) whose group reading would have {digits} "
+                "digits or fewer are read with their mark as the decimal mark"]
+    if listed:
+        evidence.append(f"{listed} ambiguous value(s) with more digits are listed (a writer "
+                        "may group only numbers of five digits or more)")
+    return MarkDecision(None, hint, min(0.95, _evidence_confidence(count)), evidence,
+                        ungrouped=digits)
 
 
 def _settle(decision: MarkDecision, tally: MarkTally) -> MarkDecision:
@@ -190,15 +254,21 @@ def _settle(decision: MarkDecision, tally: MarkTally) -> MarkDecision:
 
 
 def decide_marks(values: Sequence[str], counts: Sequence[int] | np.ndarray,
-                 context: Context | None = None) -> tuple[dict[str, Any], float, tuple[str, ...]]:
+                 context: Context | None = None, ungrouped_limit: int | None = None
+                 ) -> tuple[dict[str, Any], float, tuple[str, ...]]:
     """Decide the decimal mark of a set of number strings (for engines built on this one).
 
     Returns (convention, confidence, evidence). The convention holds ``decimal_mark``
-    ("." / "," / None when undecided), ``likely_decimal_mark`` and ``settled_marks`` as
-    documented in ``harmonize.engines.numbers``, ready for ``parse_amount``.
+    ("." / "," / None when undecided), ``likely_decimal_mark``, ``settled_marks`` and
+    ``ungrouped_digits`` as documented in ``harmonize.engines.numbers``, ready for
+    ``parse_amount``. ``ungrouped_limit`` caps the digits that whole numbers written
+    without group marks may settle (see ``scoped_ungrouped``).
     """
     forms = analyse(list(values))
     tally = MarkTally.of(forms, np.asarray(counts, dtype=np.int64))
+    if ungrouped_limit is not None and tally.ungrouped[0] > ungrouped_limit:
+        tally.ungrouped = (ungrouped_limit, *tally.ungrouped[1:]) if ungrouped_limit else (
+            0, 0, "")
     decision = _flat_marks(tally, _hint_mark(context), _trusts_hint(context))
     convention = {**decision.convention(), "decimal_mark": decision.mark}
     return convention, decision.confidence, tuple(decision.evidence)
@@ -247,9 +317,59 @@ def decide_column_marks(column: ColumnEvidence, forms: Forms, context: Context,
         if grouped is not None:
             return grouped
     decision = _flat_marks(tally, hint, trust)
+    if decision.ungrouped:
+        digits = scoped_ungrouped(column, context, decision.ungrouped,
+                                  lambda mask: (forms, mask & ~skip))
+        if digits < decision.ungrouped:
+            tally.ungrouped = (digits, *tally.ungrouped[1:]) if digits else (0, 0, "")
+            decision = _flat_marks(tally, hint, trust)
+            decision.evidence.append(
+                "whole numbers written without group marks in some rows do not show how the "
+                "rows of another country or branch group theirs")
     if decision.mark is not None and tally.cells[AMBIGUOUS]:
         _guard_foreign_countries(column, forms, context, decision)
     return decision
+
+
+def _group_masks(column: ColumnEvidence, split: Split) -> list[np.ndarray]:
+    """Per label of a split: which of the column's distinct values its rows hold."""
+    present = column.codes >= 0
+    masks = []
+    for label_code in range(split.n_groups):
+        rows = present & (split.codes == label_code)
+        masks.append(np.bincount(column.codes[rows], minlength=len(column.values)) > 0)
+    return masks
+
+
+def _own_ungrouped(forms: Forms, in_group: np.ndarray, ambiguous: np.ndarray
+                   ) -> dict[str, int]:
+    """{"ungrouped_digits": G} when a group's own whole numbers settle some of its
+    ambiguous values (see ``ungrouped_digits``), else {}."""
+    digits = ungrouped_digits(forms, in_group & forms.is_number)[0]
+    if not digits:
+        return {}
+    readings = group_reading_digits(forms, np.flatnonzero(ambiguous & ~forms.has_currency))
+    return {"ungrouped_digits": digits} if (readings <= digits).any() else {}
+
+
+def scoped_ungrouped(column: ColumnEvidence, context: Context, digits: int,
+                     forms_of: Callable[[np.ndarray], tuple[Forms, np.ndarray]]) -> int:
+    """The digits that whole numbers written without group marks settle, where every
+    column that could split the rows by writer (a country, a branch) agrees: each group
+    holding an ambiguous value must show such numbers itself (one writer's habits say
+    nothing about another's). 0 when the rows cannot be split.
+
+    ``forms_of(mask)`` gives the forms of the numbers of the column's values under
+    ``mask`` and which of them to weigh."""
+    splits = context.splits(exclude=column.name)
+    if splits and column.codes is None:
+        return 0
+    for split in splits:
+        for mask in _group_masks(column, split):
+            forms, weigh = forms_of(mask)
+            if (weigh & (forms.status == AMBIGUOUS)).any():
+                digits = min(digits, ungrouped_digits(forms, weigh & forms.is_number)[0])
+    return digits if digits >= MIN_UNGROUPED else 0
 
 
 def _status_admits(statuses: set[int]) -> frozenset[str]:
@@ -321,25 +441,28 @@ def _guard_foreign_countries(column: ColumnEvidence, forms: Forms, context: Cont
     mark = decision.mark
     if split is None or column.codes is None or mark is None:
         return
-    parts = column.by_group(split.codes, split.n_groups)
-    index_of = {v: i for i, v in enumerate(column.values.tolist())}
-    for label, territory, part in zip(split.labels, split.territories, parts, strict=True):
-        rows = [index_of[v] for v in part.values.tolist()]
-        statuses = set(forms.status[rows].tolist())
-        if AMBIGUOUS not in statuses or statuses & {DOT_ONLY, COMMA_ONLY}:
+    held = forms.has_char(mark)
+    for label, territory, in_group in zip(split.labels, split.territories,
+                                          _group_masks(column, split), strict=True):
+        status = forms.status[in_group]
+        ambiguous = in_group & (forms.status == AMBIGUOUS)
+        if not ambiguous.any() or ((status == DOT_ONLY) | (status == COMMA_ONLY)).any():
             continue
+        own = _own_ungrouped(forms, in_group, ambiguous)
+        unless = (f", except those of up to {own['ungrouped_digits']} digits (whole numbers in "
+                  "those rows are written without group marks)") if own else ""
         cldr = cldr_decimal_mark(territory) if territory else None
         if cldr is not None and cldr != mark:
             decision.per_label[label] = {"decimal_mark": UNDECIDED, "likely_decimal_mark": cldr,
-                                         "settled_marks": []}
+                                         "settled_marks": [], **own}
             decision.evidence.append(
                 f"rows of {label!r} show no deciding value and CLDR gives that country "
-                f"{mark_name(cldr)}: their ambiguous values are listed")
-        elif any(mark in forms.body[i] for i in rows if forms.status[i] == AMBIGUOUS):
-            decision.per_label[label] = {"settled_marks": [_other(mark)]}
+                f"{mark_name(cldr)}: their ambiguous values are listed{unless}")
+        elif (ambiguous & held).any():
+            decision.per_label[label] = {"settled_marks": [_other(mark)], **own}
             decision.evidence.append(
                 f"rows of {label!r} show no deciding value: their ambiguous values that would "
-                f"take {mark_name(mark)} as the decimal mark are listed")
+                f"take {mark_name(mark)} as the decimal mark are listed{unless}")
         else:
             continue
         decision.split = split

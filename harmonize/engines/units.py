@@ -34,7 +34,9 @@ Convention keys (plain values; edit them in a plan file):
 ``customary``           "US", "imperial" or null: which gallon, quart, pint, fluid ounce an
                         unqualified token means; null lists them.
 ``decimal_mark``        "." , "," or null, as the numbers engine decides it from the number
-                        parts; ``likely_decimal_mark`` names the reading offered as ``best``.
+                        parts; ``likely_decimal_mark`` names the reading offered as ``best``;
+                        ``ungrouped_digits`` as in the numbers engine ("1.272 kg" beside
+                        "2000 kg": 1.272).
 ``significant_digits``  digits kept where a conversion does not end (100 km/h -> m/s).
 """
 
@@ -51,7 +53,8 @@ from harmonize.context import Context
 from harmonize.engines.base import Converted, Decision, GroupRule, Outcome
 from harmonize.engines.grouping import explaining_split
 from harmonize.engines.numbers import decide_marks
-from harmonize.engines.numbers_forms import COMMA_ONLY, DOT_ONLY, analyse
+from harmonize.engines.numbers_forms import COMMA_ONLY, DOT_ONLY, Forms, analyse
+from harmonize.engines.numbers_marks import scoped_ungrouped
 from harmonize.engines.units_convert import SIGNIFICANT_DIGITS, convert_quantities
 from harmonize.engines.units_parse import (
     Cells,
@@ -135,18 +138,21 @@ class Tally:
 
     @classmethod
     def of(cls, cells: Cells, counts: np.ndarray) -> Tally:
+        # cells that write the same unit tokens say the same: tallied once per tokens
+        by_tokens: Counter[tuple[str | None, ...]] = Counter()
+        for pieces, count in zip(cells.pieces, counts.tolist()):
+            if pieces:
+                by_tokens[tuple(token for _, token in pieces)] += count
         dims: Counter[str] = Counter()
         tokens: Counter[str] = Counter()
         unit_cells = bare_cells = 0
-        for pieces, count in zip(cells.pieces, counts.tolist()):
-            if not pieces:
-                continue
-            if len(pieces) == 1 and pieces[0][1] is None:
+        for written, count in by_tokens.items():
+            if written == (None,):
                 bare_cells += count
                 continue
             unit_cells += count
             shared = None
-            for _, token in pieces:
+            for token in written:
                 tokens[normalise_token(token or "")] += count
                 found = read_token(token or "").dimensions
                 shared = found if shared is None else shared & found
@@ -222,6 +228,9 @@ def _grouped_marks(column: ColumnEvidence, context: Context, cells: Cells
     """Per-group decimal marks when a column (a country first) explains a mixed notation."""
     values = column.values.tolist()
     admits_of = _value_admits(cells, values)
+    # a split explains the marks only when some value admits "." alone and another ","
+    if not {frozenset("."), frozenset(",")} <= set(admits_of.values()):
+        return None
     index = {v: i for i, v in enumerate(values)}
 
     def admits(part: ColumnEvidence) -> frozenset[str]:
@@ -240,7 +249,8 @@ def _grouped_marks(column: ColumnEvidence, context: Context, cells: Cells
         sub = Cells([cells.pieces[index[v]] for v in part.values.tolist()])
         marks, _, _ = decide_marks(*_number_tally(sub, part.counts))
         per_label[label] = {"decimal_mark": marks.get("decimal_mark"),
-                            "likely_decimal_mark": marks.get("likely_decimal_mark")}
+                            "likely_decimal_mark": marks.get("likely_decimal_mark"),
+                            "ungrouped_digits": marks.get("ungrouped_digits")}
     shown = ", ".join(f"{label}: {conv['decimal_mark'] or 'undecided'}"
                       for label, conv in list(per_label.items())[:8])
     evidence = [f"the decimal mark differs by {found.split.column!r} ({shown})"]
@@ -342,8 +352,7 @@ class UnitEngine:
         if customary is None and _needs_customary(open_):
             customary = _region_customary(context)
             groups = _customary_groups(column, context) if customary is None else None
-        marks, mark_p, mark_evidence = decide_marks(*_number_tally(cells, column.counts),
-                                                    context)
+        marks, mark_p, mark_evidence = _decide_marks(column, context, cells)
         grouped = _grouped_marks(column, context, cells) if marks.get("decimal_mark") is None \
             else None
         if grouped is not None:
@@ -355,6 +364,7 @@ class UnitEngine:
             "column_units": used, "units": dict(sorted(decided.items())),
             "customary": customary, "decimal_mark": marks.get("decimal_mark"),
             "likely_decimal_mark": marks.get("likely_decimal_mark"),
+            "ungrouped_digits": marks.get("ungrouped_digits"),
             "significant_digits": SIGNIFICANT_DIGITS}
         bare_fits = header_id is not None or unit_share >= UNIT_SHARE_FOR_BARE
         in_dim = sum(c for t, c in tally.token_cells.items()
@@ -368,7 +378,7 @@ class UnitEngine:
     def _decision(self, column: ColumnEvidence, context: Context, cells: Cells, tally: Tally,
                   plan: Plan) -> Decision:
         convention = plan.convention
-        converted = convert_quantities(column.values.tolist(), convention)
+        converted = convert_quantities(column.values.tolist(), convention, cells)
         details: dict[str, Any] = {"caution": CAUTION,
                                    "target_symbol": UNITS[convention["target"]].symbol}
         slip = _slip_warning(converted, column.counts)
@@ -426,6 +436,24 @@ def _bare_unit(header_id: str | None, used: list[str], unit_share: float,
 
 def _needs_customary(open_: Mapping[str, frozenset[str]]) -> bool:
     return any({UNITS[u].system for u in units} == {"US", "imperial"} for units in open_.values())
+
+
+def _decide_marks(column: ColumnEvidence, context: Context, cells: Cells
+                  ) -> tuple[dict[str, Any], float, tuple[str, ...]]:
+    """The decimal mark of the number parts, as the numbers engine decides it; whole
+    numbers without group marks settle ambiguous parts only where every split agrees."""
+    found = decide_marks(*_number_tally(cells, column.counts), context)
+    digits = found[0].get("ungrouped_digits")
+    if digits:
+        def forms_of(mask: np.ndarray) -> tuple[Forms, np.ndarray]:
+            part = Cells([cells.pieces[i] for i in np.flatnonzero(mask).tolist()])
+            forms = analyse(_number_tally(part, column.counts[mask])[0])
+            return forms, np.ones(len(forms), bool)
+
+        scoped = scoped_ungrouped(column, context, digits, forms_of)
+        if scoped < digits:
+            found = decide_marks(*_number_tally(cells, column.counts), context, scoped)
+    return found
 
 
 def _number_tally(cells: Cells, counts: np.ndarray) -> tuple[list[str], list[int]]:

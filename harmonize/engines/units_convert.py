@@ -16,8 +16,10 @@ from dataclasses import dataclass, field
 from decimal import Context as DecimalContext
 from decimal import Decimal
 from fractions import Fraction
-from functools import cache
+from functools import cache, lru_cache
 from typing import Any
+
+import numpy as np
 
 from harmonize.engines.base import Converted
 from harmonize.engines.numbers_forms import (
@@ -30,7 +32,7 @@ from harmonize.engines.numbers_forms import (
     format_decimal_plain,
     to_decimal,
 )
-from harmonize.engines.units_parse import split_cells
+from harmonize.engines.units_parse import Cells, split_cells
 from harmonize.engines.units_registry import UNITS, linear_map, normalise_token, read_token
 
 SIGNIFICANT_DIGITS = 15
@@ -48,14 +50,19 @@ class NumberReadings:
     problems: dict[str, str]                 # part -> why it does not read
 
     @classmethod
-    def of(cls, parts: Sequence[str], mark: str | None) -> NumberReadings:
+    def of(cls, parts: Sequence[str], mark: str | None, ungrouped: int = 0) -> NumberReadings:
+        """``ungrouped``: an ambiguous part whose group reading has that many digits or
+        fewer takes its own mark as the decimal mark (see ``numbers_marks``)."""
         distinct = list(dict.fromkeys(parts))
         forms = analyse(distinct)
         values: dict[str, tuple[Decimal, ...]] = {}
         problems: dict[str, str] = {}
+        own = forms.body_length - 1 <= ungrouped if ungrouped else np.zeros(len(forms), bool)
         for i, part in enumerate(distinct):
             status = int(forms.status[i])
             marks = _marks_for(status, mark)
+            if status == AMBIGUOUS and mark is None and own[i]:
+                marks = (forms.swapped_mark(i),)
             if not marks:
                 problems[part] = _mark_problem(part, status, mark)
                 continue
@@ -123,16 +130,27 @@ def _affine(unit_id: str, target: str) -> tuple[Decimal, Decimal, Decimal]:
             Decimal(b.numerator * (r // b.denominator)), Decimal(r))
 
 
+@cache
+def _rounding(digits: int) -> DecimalContext:
+    return DecimalContext(prec=digits)
+
+
 def convert_value(value: Decimal, unit_id: str, target: str, digits: int) -> Decimal:
     """A value in ``target``: exact products, one correctly rounded division."""
     p, q, r = _affine(unit_id, target)
     top = EXACT.add(EXACT.multiply(value, p), q)
-    return DecimalContext(prec=digits).divide(top, r)
+    return _rounding(digits).divide(top, r)
+
+
+@lru_cache(maxsize=1 << 16)   # bounded; a column's cells come back at apply time
+def plain_in(value: Decimal, unit_id: str, target: str, digits: int) -> str:
+    """``value`` in ``unit_id`` written as a plain number in ``target`` (numerically equal
+    values give the same text, so they may share a cache entry)."""
+    return format_decimal_plain(convert_value(value, unit_id, target, digits))
 
 
 def _round(value: Fraction, digits: int) -> Decimal:
-    return DecimalContext(prec=digits).divide(Decimal(value.numerator),
-                                              Decimal(value.denominator))
+    return _rounding(digits).divide(Decimal(value.numerator), Decimal(value.denominator))
 
 
 def _combo_value(combo: Combo, target: str, digits: int) -> Decimal:
@@ -205,15 +223,26 @@ def _piece_units(token: str | None, convention: Mapping[str, Any]) -> list[str] 
     return sorted(inside)
 
 
-def convert_quantities(values: Sequence[str], convention: Mapping[str, Any]) -> Converted:
-    """Convert distinct values under a convention (see the module docstring)."""
-    cells = split_cells(values)
+def convert_quantities(values: Sequence[str], convention: Mapping[str, Any],
+                       cells: Cells | None = None) -> Converted:
+    """Convert distinct values under a convention (see the module docstring); ``cells``
+    are the values already split, when the caller has them."""
+    cells = split_cells(values) if cells is None else cells
     digits = int(convention.get("significant_digits") or SIGNIFICANT_DIGITS)
-    numbers = NumberReadings.of(cells.number_parts(), convention.get("decimal_mark"))
+    ungrouped = int(convention.get("ungrouped_digits") or 0)
+    numbers = NumberReadings.of(cells.number_parts(), convention.get("decimal_mark"),
+                                ungrouped)
     memo = UnitMemo(convention)
+    target = convention["target"]
     likely: NumberReadings | None = None
     result = Converted.empty(len(values))
     for i, pieces in enumerate(cells.pieces):
+        if len(pieces) == 1:   # one number, one unit, one reading: most cells
+            readings, units = numbers.values.get(pieces[0][0]), memo[pieces[0][1]]
+            if readings and len(readings) == 1 and not isinstance(units, str) \
+                    and len(units) == 1:
+                result.set(i, plain_in(readings[0], units[0], target, digits))
+                continue
         raw = str(values[i]).strip()
         if not pieces:
             result.unresolved(i, f"{raw!r} is not a quantity in a form this engine reads")
@@ -228,7 +257,7 @@ def convert_quantities(values: Sequence[str], convention: Mapping[str, Any]) -> 
             continue
         if likely is None:
             likely = NumberReadings.of(cells.number_parts(),
-                                       convention.get("likely_decimal_mark"))
+                                       convention.get("likely_decimal_mark"), ungrouped)
         best = _best(pieces, likely, memo, digits)
         result.unresolved(i, _ambiguity_reason(raw, pieces, cell, convention),
                           candidates=texts[:MAX_CANDIDATES], best=best)

@@ -6,9 +6,10 @@ falling units ("5' 11\"", "5 ft 11 in", "1 h 30 min", "11 st 4 lb"; after feet o
 the last unit may be left out: "5'11"). Anything else is not a quantity.
 
 The simple forms are split for all distinct values at once by one regular expression
-(pandas ``str.extract``); only cells whose unit part still holds a digit are tried as
-compounds. Number parts are not read here: the numbers engine's parser reads them, so
-that "1.234,5" and "1,234.5" follow the same decimal-mark rules in every engine.
+(RE2 in pyarrow, for printable-ASCII values; Python's ``re`` for the rest); only cells
+whose unit part still holds a digit are tried as compounds. Number parts are not read
+here: the numbers engine's parser reads them, so that "1.234,5" and "1,234.5" follow the
+same decimal-mark rules in every engine.
 """
 
 from __future__ import annotations
@@ -20,7 +21,8 @@ from dataclasses import dataclass
 from functools import cache, lru_cache
 
 import numpy as np
-import pandas as pd
+import pyarrow as pa
+import pyarrow.compute as pc
 
 from harmonize.engines.numbers_forms import FOLD
 from harmonize.engines.units_registry import UNITS, Reading, normalise_token, read_token
@@ -78,23 +80,50 @@ class Cells:
         return {unit for pieces in self.pieces for _, unit in pieces if unit is not None}
 
 
+# Printable ASCII, where NFKC and folding change nothing but the spaces around, and where
+# RE2 (pyarrow) reads ``\d`` and ``\s`` exactly as Python's ``re`` does.
+_PRINTABLE_ASCII = r"^[\x20-\x7e]*$"
+
+
 def split_cells(values: Sequence[str]) -> Cells:
-    """Split every distinct value into pieces (vectorised for the simple forms)."""
-    text = pd.Series([fold_text(str(v)) for v in values], dtype=object)
-    parts = text.str.extract(SIMPLE)
-    sign = parts["sign"].fillna("").tolist()
-    nums = parts["num"].tolist()
-    units = parts["unit"].tolist()
+    """Split every distinct value into pieces: the simple forms of printable-ASCII values
+    by one regular expression over all of them (RE2 in pyarrow), the rest in Python."""
+    raw = pa.array([str(v) for v in values], type=pa.string())
+    plain = np.asarray(pc.match_substring_regex(raw, _PRINTABLE_ASCII), dtype=bool)
+    text = np.empty(len(raw), dtype=object)
+    sign, num, unit = (np.full(len(raw), None, dtype=object) for _ in range(3))
+    if plain.any():
+        folded = pc.utf8_trim(raw.filter(pa.array(plain)), " ")
+        text[plain] = folded.to_numpy(zero_copy_only=False)
+        found = pc.extract_regex(folded, SIMPLE.pattern)
+        matched = np.asarray(found.is_valid(), dtype=bool)
+        at = np.flatnonzero(plain)[matched]
+        found = found.filter(pa.array(matched))
+        sign[at] = found.field("sign").to_numpy(zero_copy_only=False)
+        num[at] = found.field("num").to_numpy(zero_copy_only=False)
+        unit[at] = found.field("unit").to_numpy(zero_copy_only=False)
+    for i in np.flatnonzero(~plain).tolist():
+        text[i] = fold_text(str(values[i]))
+        found = SIMPLE.search(text[i])
+        if found:
+            sign[i], num[i], unit[i] = found.group("sign", "num", "unit")
+    return Cells(_pieces(text.tolist(), sign.tolist(), num.tolist(), unit.tolist()))
+
+
+def _pieces(text: list[str], sign: list[str | None], num: list[str | None],
+            unit: list[str | None]) -> list[tuple[Piece, ...]]:
+    single: dict[str, bool] = {}
     pieces: list[tuple[Piece, ...]] = []
-    for i, raw in enumerate(text.tolist()):
-        num, unit = nums[i], units[i]
-        if isinstance(num, str) and not isinstance(unit, str):
-            pieces.append(((sign[i] + num, None),))
-        elif isinstance(num, str) and _one_token(unit):
-            pieces.append(((sign[i] + num, unit.strip()),))
+    for raw, s, n, u in zip(text, sign, num, unit, strict=True):
+        if n is None:
+            pieces.append(compound(raw))
+        elif not u:   # no unit part ("" from RE2, None from re)
+            pieces.append(((f"{s or ''}{n}", None),))
+        elif single.get(u) or single.setdefault(u, _one_token(u)):
+            pieces.append(((f"{s or ''}{n}", u.strip()),))
         else:
             pieces.append(compound(raw))
-    return Cells(pieces)
+    return pieces
 
 
 def _one_token(unit: str) -> bool:
