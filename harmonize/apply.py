@@ -17,10 +17,11 @@ import pandas as pd
 
 from harmonize.arrowcsv import CodedColumn, CodedFrame
 from harmonize.context import Context
+from harmonize.decide import each_column
 from harmonize.engines import engine_named
 from harmonize.engines.base import Converted, Outcome, companions_of
 from harmonize.engines.missing import MissingRule
-from harmonize.evidence import ColumnEvidence, TableEvidence
+from harmonize.evidence import ColumnEvidence, TableEvidence, most_frequent
 from harmonize.options import Options
 from harmonize.plan import ColumnPlan, TablePlan
 
@@ -203,22 +204,8 @@ def _note_examples(result: ColumnResult, converted: Converted, wanted: np.ndarra
                    column: ColumnEvidence) -> None:
     changed = np.nonzero(converted.outcome == Outcome.CONVERTED)[0]
     room = EXAMPLES - len(result.examples)
-    for i in changed[_most_frequent(column.counts[wanted[changed]], room)]:
+    for i in changed[most_frequent(column.counts[wanted[changed]], room)]:
         result.examples.append((str(column.values[wanted[i]]), converted.text[i]))
-
-
-def _most_frequent(counts: np.ndarray, k: int) -> np.ndarray:
-    """Positions of the ``k`` largest counts, largest first, ties in position order (as a
-    stable sort would give them) without sorting a column of a million values."""
-    if k <= 0 or not len(counts):
-        return np.zeros(0, dtype=np.int64)
-    if len(counts) <= k:
-        return np.argsort(-counts, kind="stable")
-    cut = np.partition(counts, len(counts) - k)[len(counts) - k]  # the k-th largest
-    above = np.flatnonzero(counts > cut)
-    tied = np.flatnonzero(counts == cut)[: k - len(above)]
-    picked = np.concatenate([above, tied])
-    return picked[np.argsort(-counts[picked], kind="stable")]
 
 
 class TableResult:
@@ -247,15 +234,20 @@ class TableResult:
 
 
 def apply_table(evidence: TableEvidence, plan: TablePlan,
-                options: Options | None = None) -> TableResult:
+                options: Options | None = None, *, workers: int = 1) -> TableResult:
+    """Every column converted under its plan; ``workers`` threads share a large table."""
     context = Context(evidence, options)
-    results, drift = [], []
+    drift = []
+    plans = []
     for column in evidence.columns:
         column_plan = plan.column(column.name)
         if column_plan is None:
             drift.append(f"column {column.name!r} is not in the plan; passed through as text")
             column_plan = ColumnPlan(column.name, "text", "text", 0.0, {"trim": False})
-        results.append(apply_column(column, column_plan, context))
+        plans.append(column_plan)
+    plan_of = {id(column): p for column, p in zip(evidence.columns, plans)}
+    results = each_column(lambda column: apply_column(column, plan_of[id(column)], context),
+                          evidence, context, workers)
     for column_plan in plan.columns:
         if column_plan.name not in {c.name for c in evidence.columns}:
             drift.append(f"column {column_plan.name!r} of the plan is absent from the data")

@@ -125,6 +125,10 @@ class Context:
         self.table = table
         self.options = options or Options()
 
+    def prepare(self) -> None:
+        """Find now what is otherwise found on first use (before threads share this)."""
+        _ = self._splits, self.file_territory, self.country_split
+
     @property
     def file(self) -> str:
         return self.table.file

@@ -3,6 +3,9 @@
 from __future__ import annotations
 
 import logging
+from collections.abc import Callable
+from concurrent.futures import ThreadPoolExecutor
+from typing import TypeVar
 
 import numpy as np
 
@@ -10,11 +13,12 @@ from harmonize.context import Context
 from harmonize.engines import ENGINES, FALLBACK
 from harmonize.engines.base import Decision
 from harmonize.engines.missing import MissingRule, missing_with_mask
-from harmonize.evidence import ColumnEvidence, TableEvidence
+from harmonize.evidence import ColumnEvidence, TableEvidence, most_frequent
 from harmonize.options import Options
 from harmonize.plan import ColumnPlan, TablePlan
 
 log = logging.getLogger(__name__)
+T = TypeVar("T")
 
 
 SCREEN_SIZE = 400     # distinct values an engine sees first on a large column
@@ -28,7 +32,7 @@ def screening_sample(column: ColumnEvidence) -> ColumnEvidence | None:
     if n <= 2 * SCREEN_SIZE:
         return None
     keep = np.zeros(n, dtype=bool)
-    keep[np.argsort(-column.counts, kind="stable")[: SCREEN_SIZE // 2]] = True
+    keep[most_frequent(column.counts, SCREEN_SIZE // 2)] = True
     keep[np.linspace(0, n - 1, SCREEN_SIZE // 2).astype(int)] = True
     return column.subset(keep)
 
@@ -82,7 +86,25 @@ def decide_column(column: ColumnEvidence, context: Context) -> ColumnPlan:
     return plan
 
 
-def decide_table(table: TableEvidence, options: Options | None = None) -> TablePlan:
+def decide_table(table: TableEvidence, options: Options | None = None, *,
+                 workers: int = 1) -> TablePlan:
+    """Every column's plan; ``workers`` threads share the columns of a large table."""
     context = Context(table, options)
-    columns = [decide_column(column, context) for column in table.columns]
+    columns = each_column(lambda column: decide_column(column, context), table, context,
+                          workers)
     return TablePlan(file=table.file, sheet=table.sheet, columns=columns)
+
+
+THREADED_ROWS = 50_000  # smaller tables are done in one thread: nothing to gain
+
+
+def each_column(work: Callable[[ColumnEvidence], T], table: TableEvidence, context: Context,
+                workers: int) -> list[T]:
+    """``work`` on each column, in order. With several workers, columns run in threads:
+    the heavy parts of the engines (Arrow, numpy) release the interpreter lock. What the
+    context finds once per table is found before the threads start."""
+    if workers <= 1 or table.n_rows < THREADED_ROWS or len(table.columns) < 2:
+        return [work(column) for column in table.columns]
+    context.prepare()
+    with ThreadPoolExecutor(max_workers=workers) as pool:
+        return list(pool.map(work, table.columns))

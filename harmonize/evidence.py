@@ -120,3 +120,17 @@ class TableEvidence:
             if col.name == name:
                 return col
         raise KeyError(name)
+
+
+def most_frequent(counts: np.ndarray, k: int) -> np.ndarray:
+    """Positions of the ``k`` largest counts, largest first, ties in position order (as a
+    stable sort would give them) without sorting a column of a million values."""
+    if k <= 0 or not len(counts):
+        return np.zeros(0, dtype=np.int64)
+    if len(counts) <= k:
+        return np.argsort(-counts, kind="stable")
+    cut = np.partition(counts, len(counts) - k)[len(counts) - k]  # the k-th largest
+    above = np.flatnonzero(counts > cut)
+    tied = np.flatnonzero(counts == cut)[: k - len(above)]
+    picked = np.concatenate([above, tied])
+    return picked[np.argsort(-counts[picked], kind="stable")]

@@ -92,15 +92,15 @@ def evidence_of(table: Table, name: str) -> TableEvidence:
                                     typed=table.typed, formats=table.formats)
 
 
-def harmonize_table(table: Table, name: str, options: Options,
-                    plan: Plan | None) -> tuple[TablePlan, TableResult]:
+def harmonize_table(table: Table, name: str, options: Options, plan: Plan | None,
+                    workers: int = 1) -> tuple[TablePlan, TableResult]:
     evidence = evidence_of(table, name)
     table_plan = None
     if plan is not None:
         table_plan = plan.table_for(name, table.sheet, [c.name for c in evidence.columns])
     if table_plan is None:
-        table_plan = decide_table(evidence, options)
-    result = apply_table(evidence, table_plan, options)
+        table_plan = decide_table(evidence, options, workers=workers)
+    result = apply_table(evidence, table_plan, options, workers=workers)
     if plan is not None:
         if table_plan in plan.tables:
             result.drift += contradictions(table_plan, decide_table(evidence, options))
@@ -204,7 +204,10 @@ def _process_stream(path: Path, rel: Path, out_dir: Path | None, options: Option
 def process_file(path: Path, rel: Path, out_dir: Path | None, options: Options,
                  plan: Plan | None, fmt: str | None, inputs: set[Path],
                  chunk_rows: int | None = None, dask: bool = False,
-                 on_rows: Callable[[str, int], None] | None = None) -> FileOutcome:
+                 on_rows: Callable[[str, int], None] | None = None,
+                 workers: int = 1) -> FileOutcome:
+    """One input file through the whole road; ``workers`` threads share a large table's
+    columns (1 when files already run in parallel processes)."""
     outcome = FileOutcome(input=str(rel))
     try:
         if _streams(path, fmt, chunk_rows, dask):
@@ -214,7 +217,7 @@ def process_file(path: Path, rel: Path, out_dir: Path | None, options: Options,
         tables = read_tables(path)
         pending = []
         for table in tables:
-            table_plan, result = harmonize_table(table, str(rel), options, plan)
+            table_plan, result = harmonize_table(table, str(rel), options, plan, workers)
             rel_out, writer = _output_names(rel, table, fmt)
             frame, notes = _safe_to_open(result.coded_frame(), writer, options)
             pending.append((rel_out, writer, frame, table.sheet))
@@ -289,8 +292,9 @@ def run(paths: Sequence[str | Path], out_dir: str | Path | None = None, *,
                                 on_failure=lambda a, why: FileOutcome(str(a[1]), error=why),
                                 on_result=on_file)
     else:
+        workers = min(2, cpu_count())  # columns in threads: the file is alone
         for arg in args:
-            result = process_file(*arg, on_rows=on_rows)
+            result = process_file(*arg, on_rows=on_rows, workers=workers)
             outcomes.append(result)
             if on_file:
                 on_file(result)

@@ -2,18 +2,20 @@
 
 from __future__ import annotations
 
+from pathlib import Path
+
 import numpy as np
 import pandas as pd
 import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from harmonize.apply import _most_frequent, apply_table
+from harmonize.apply import apply_table
 from harmonize.decide import decide_table
 from harmonize.engines.base import Outcome
 from harmonize.engines.identifiers import IdentifierEngine
 from harmonize.engines.missing import find_missing
-from harmonize.evidence import ColumnEvidence, TableEvidence
+from harmonize.evidence import ColumnEvidence, TableEvidence, most_frequent
 from harmonize.options import Options
 from harmonize.pipeline import harmonize_frame
 from harmonize.plan import Plan, PlanError, dumps, loads
@@ -232,4 +234,31 @@ def test_report_examples_are_the_most_frequent_values(counts: list[int], k: int)
     # reference: numpy's stable argsort (ties keep their order), the first k positions
     array = np.array(counts, dtype=np.int64)
     expected = np.argsort(-array, kind="stable")[:k]
-    assert _most_frequent(array, k).tolist() == expected.tolist()
+    assert most_frequent(array, k).tolist() == expected.tolist()
+
+
+def test_columns_in_threads_give_the_same_files_and_report(tmp_path: Path) -> None:
+    # the threaded road must be the single-threaded one, cell for cell and word for word
+    from harmonize.decide import THREADED_ROWS
+    from harmonize.pipeline import process_file
+    rng = np.random.default_rng(5)
+    n = THREADED_ROWS + 1000
+    days = rng.integers(1, 29, n)
+    frame = pd.DataFrame({
+        "Booked": [f"{d:02d}/{m:02d}/2024" for d, m in zip(days, rng.integers(1, 13, n))],
+        "Total": [f"{v // 100:,}.{v % 100:02d}".replace(",", "\u202f")
+                  for v in rng.integers(0, 10**7, n)],
+        "Depot": rng.choice(["  North ", "north", "SOUTH", "N/A"], n),
+        "Ref": [f"{v:07d}" for v in rng.integers(0, 10**7, n)]})
+    src = tmp_path / "ledger.csv"
+    frame.to_csv(src, index=False)
+    outcomes = []
+    for workers in (1, 2):
+        out = tmp_path / f"out{workers}"
+        outcomes.append((process_file(src, Path("ledger.csv"), out,
+                                      Options(), None, None, {src.resolve()},
+                                      workers=workers), out))
+    (one, out1), (two, out2) = outcomes
+    assert one.error is None and two.error is None
+    assert one.entries == two.entries and one.unresolved == two.unresolved
+    assert (out1 / "ledger.csv").read_bytes() == (out2 / "ledger.csv").read_bytes()

@@ -456,12 +456,12 @@ def test_folder_run_survives_a_dying_worker(tmp_path: Path, monkeypatch: pytest.
         (folder / f"part{i}.csv").write_text(f"Item,Qty\nrope,{i}\n")
     real = pipeline.harmonize_table
 
-    def flaky(table, name, options, plan):  # type: ignore[no-untyped-def]
+    def flaky(table, name, options, plan, *more):  # type: ignore[no-untyped-def]
         if name == "part1.csv":
             os.kill(os.getpid(), signal.SIGKILL)
         if name == "part2.csv":
             raise RuntimeError("engine bug")
-        return real(table, name, options, plan)
+        return real(table, name, options, plan, *more)
 
     monkeypatch.setattr(pipeline, "harmonize_table", flaky)  # inherited by forked workers
     result = pipeline.run([folder], tmp_path / "out", jobs=2)
