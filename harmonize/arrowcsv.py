@@ -21,7 +21,7 @@ import io
 import re
 from concurrent.futures import ThreadPoolExecutor
 from dataclasses import dataclass
-from typing import IO
+from typing import IO, Any
 
 import numpy as np
 import pandas as pd
@@ -40,6 +40,15 @@ class CodedColumn:
 
     def cells(self) -> np.ndarray:
         return self.values[self.codes]
+
+    def arrow(self) -> Any:
+        """The distinct values as an Arrow array, made once (the formula guard and the
+        writer both scan them)."""
+        import pyarrow as pa
+        made = self.__dict__.get("_arrow")
+        if made is None:
+            made = self.__dict__["_arrow"] = pa.array(self.values, type=pa.large_string())
+        return made
 
 
 def read_coded(body: str, delimiter: str, data: bytes | None = None
@@ -182,7 +191,7 @@ def write_csv(frame: pd.DataFrame | CodedFrame, handle: IO[bytes], delimiter: st
     if not table.columns:
         handle.write(b"\n" * table.n_rows)
         return
-    rendered = [_rendered(c.values, delimiter, lone) for c in table.columns]
+    rendered = [_rendered(c.arrow(), delimiter, lone) for c in table.columns]
     sep, end, none = (pa.scalar(s, pa.large_string()) for s in (delimiter, "\n", ""))
     for start in range(0, table.n_rows, _CHUNK_ROWS):
         stop = min(start + _CHUNK_ROWS, table.n_rows)
@@ -193,12 +202,11 @@ def write_csv(frame: pd.DataFrame | CodedFrame, handle: IO[bytes], delimiter: st
         handle.write(_data_bytes(lines))
 
 
-def _rendered(values: np.ndarray, delimiter: str, lone: bool) -> object:
+def _rendered(text: Any, delimiter: str, lone: bool) -> Any:
     """Each distinct text as written in the file, quoted where need be (in Arrow)."""
     import pyarrow as pa
     import pyarrow.compute as pc
 
-    text = pa.array(values, type=pa.large_string())
     quote = pc.match_substring_regex(text, f"[{re.escape(delimiter)}\"\r\n]")
     if lone:  # a row of one empty cell is written "" (else it reads as a blank line)
         quote = pc.or_(quote, pc.equal(text, ""))

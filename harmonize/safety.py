@@ -284,7 +284,7 @@ def neutralise_coded(table: CodedFrame) -> Neutralised:
     result = Neutralised(table)
     columns = []
     for name, column in zip(table.names, table.columns):
-        hit = _formula_like(column.values)
+        hit = _formula_like(column.values, column.arrow())
         if hit.any():
             count = int(np.bincount(column.codes, minlength=len(hit))[hit].sum())
             if count:
@@ -299,16 +299,14 @@ def neutralise_coded(table: CodedFrame) -> Neutralised:
     return result
 
 
-def _formula_like(texts: np.ndarray) -> np.ndarray:
+def _formula_like(texts: np.ndarray, arrow: Any) -> np.ndarray:
     """Which texts ``neutralise_cell`` would prefix: Arrow finds the few that start with a
     trigger and are not ASCII plain numbers; Python's rule decides those (its \\d also
     takes other scripts' digits)."""
-    import pyarrow as pa
     import pyarrow.compute as pc
     hit = np.zeros(len(texts), dtype=bool)
     if not len(texts):
         return hit
-    arrow = pa.array(texts, type=pa.large_string())
     maybe = pc.and_(pc.match_substring_regex(arrow, r"^[=+\-@\t\r]"),
                     pc.invert(pc.match_substring_regex(arrow, _ASCII_PLAIN_NUMBER)))
     for i in np.flatnonzero(maybe.to_numpy(zero_copy_only=False)).tolist():
