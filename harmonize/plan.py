@@ -25,7 +25,7 @@ from __future__ import annotations
 
 import re
 import tomllib
-from collections.abc import Mapping
+from collections.abc import Callable, Mapping
 from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any
@@ -204,6 +204,9 @@ def _read_column(data: Mapping[str, Any], where: str, text: str, line: int) -> C
            "must be a number between 0 and 1")
     convention = data.get("convention", {})
     _check(isinstance(convention, Mapping), at("convention"), "must be a table")
+    convention = {k: None if v == NULL_TEXT else v for k, v in convention.items()}
+    groups = _read_groups(data.get("groups"), at("groups"))
+    _check_conventions(data["engine"], convention, groups, at)
     missing = data.get("missing", [])
     _check(isinstance(missing, list) and all(isinstance(m, str) for m in missing),
            at("missing"), "must be a list of text")
@@ -212,9 +215,27 @@ def _read_column(data: Mapping[str, Any], where: str, text: str, line: int) -> C
     return ColumnPlan(name=data["name"], kind=data["kind"], engine=data["engine"],
                       confidence=float(confidence), convention=dict(convention),
                       missing=[m.strip().lower() for m in missing],
-                      groups=_read_groups(data.get("groups"), at("groups")),
+                      groups=groups,
                       unit=data.get("unit"), output_name=data.get("output_name"),
                       evidence=_why_lines(text, line))
+
+
+def _check_conventions(engine_name: str, convention: Mapping[str, Any],
+                       groups: GroupRule | None, at: Callable[[str], str]) -> None:
+    """The engine's own check of the convention, and of each group's merged convention."""
+    from harmonize.engines import engine_named
+    from harmonize.engines.base import convention_problems
+    try:
+        engine = engine_named(engine_name)
+    except KeyError:
+        return
+    problems = convention_problems(engine, convention)
+    if problems:  # each problem starts with its key: point at that key's line
+        key = re.split(r"[\s:]", problems[0], maxsplit=1)[0]
+        raise PlanError(f"{at(key)} in the convention: {'; '.join(problems)}")
+    for label, part in (groups.conventions.items() if groups else ()):
+        problems = convention_problems(engine, {**convention, **part})
+        _check(not problems, at("groups"), f"group {label!r}: {'; '.join(problems)}")
 
 
 def loads(text: str, source: str = "<plan>") -> Plan:

@@ -262,3 +262,16 @@ def test_columns_in_threads_give_the_same_files_and_report(tmp_path: Path) -> No
     assert one.error is None and two.error is None
     assert one.entries == two.entries and one.unresolved == two.unresolved
     assert (out1 / "ledger.csv").read_bytes() == (out2 / "ledger.csv").read_bytes()
+
+
+def test_a_hand_edited_date_order_is_refused_with_its_line() -> None:
+    # the orders a date convention may name are the engine's own (DMY, MDY, YMD)
+    frame = pd.DataFrame({"Booked": ["13/01/2024", "02/03/2024"]}, dtype=object)
+    text = dumps(Plan(tables=[decide_table(TableEvidence.from_frame(frame))], options={}))
+    assert 'order = "DMY"' in text
+    bad = text.replace('order = "DMY"', 'order = "DYM"')
+    line = 1 + bad.splitlines().index('order = "DYM"')
+    with pytest.raises(PlanError, match=rf"line {line}, field 'order' in the convention: "
+                                        r"order 'DYM': expected one of DMY, MDY, YMD or null"):
+        loads(bad)
+    assert loads(text).tables[0].columns[0].convention["order"] == "DMY"

@@ -149,3 +149,14 @@ def companions_of(engine: Engine, convention: Mapping[str, Any]) -> tuple[str, .
     """
     declare = getattr(engine, "companions", None)
     return tuple(declare(convention)) if declare else ()
+
+
+def convention_problems(engine: Engine, convention: Mapping[str, Any]) -> list[str]:
+    """What is wrong with a convention a person wrote in a plan, in plain words.
+
+    Optional part of the protocol (``problems(convention)``): a plan file is edited by
+    hand, and a bad value should stop the run at load time with the plan's line number,
+    not fail on the first cell it meets.
+    """
+    check = getattr(engine, "problems", None)
+    return list(check(convention)) if check else []

@@ -104,6 +104,10 @@ class _Column:
         return bool(self.table.of(OPEN).any())
 
 
+NUMBER_MODES = (None, "compact", "serial1900", "serial1904", "unix_seconds",
+                "unix_milliseconds")
+
+
 class DateEngine:
     name: ClassVar[str] = "dates"
 
@@ -222,6 +226,32 @@ class DateEngine:
         return probability, GroupRule(by=split.column, conventions=conventions)
 
     # ------------------------------------------------------------ convert
+
+    def problems(self, convention: Mapping[str, Any]) -> list[str]:
+        """Values a hand-edited plan may hold that ``convert`` cannot follow."""
+        found = []
+        orders = ", ".join(ORDERS)
+        if convention.get("order") not in (None, *ORDERS):
+            found.append(f"order {convention['order']!r}: expected one of {orders} or null")
+        for key in ("candidates",):
+            listed = convention.get(key) or []
+            if not isinstance(listed, list) or not set(listed) <= set(ORDERS):
+                found.append(f"{key} {listed!r}: expected a list drawn from {orders}")
+        if convention.get("likely_order") not in (None, *ORDERS):
+            found.append(f"likely_order {convention['likely_order']!r}: expected one of "
+                         f"{orders} or null")
+        shapes = convention.get("order_shapes")
+        if isinstance(shapes, Mapping) and not set(shapes.values()) <= set(ORDERS):
+            found.append(f"order_shapes: each way of writing maps to one of {orders}")
+        if convention.get("numbers") not in NUMBER_MODES:
+            found.append(f"numbers {convention['numbers']!r}: expected one of "
+                         f"{', '.join(str(m) for m in NUMBER_MODES if m)} or null")
+        if convention.get("kind", "date") not in ("date", "datetime", "time"):
+            found.append(f"kind {convention['kind']!r}: expected date, datetime or time")
+        year = convention.get("year_from")
+        if year is not None and (not isinstance(year, int) or isinstance(year, bool)):
+            found.append(f"year_from {year!r}: expected a whole year such as 1950")
+        return found
 
     def convert(self, values: Sequence[str], convention: Mapping[str, Any]) -> Converted:
         result = Converted.empty(len(values))
