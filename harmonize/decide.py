@@ -37,7 +37,7 @@ def screening_sample(column: ColumnEvidence) -> ColumnEvidence | None:
     return column.subset(keep)
 
 
-def _proposals(present: ColumnEvidence, context: Context) -> list[Decision]:
+def proposals(present: ColumnEvidence, context: Context) -> list[Decision]:
     """Every engine's proposal. On a large column an engine first reads a sample, and
     only an engine that reads most of the sample goes on to read every value."""
     sample = screening_sample(present)
@@ -58,7 +58,7 @@ def choose(present: ColumnEvidence, context: Context) -> Decision:
     """The proposal with the highest fit above the threshold; ties go to the engine
     registered first; the fallback (text) when nothing fits well enough."""
     best: Decision | None = None
-    for decision in _proposals(present, context):
+    for decision in proposals(present, context):
         if decision.fit >= context.options.min_fit and (best is None or decision.fit > best.fit):
             best = decision
     if best is not None:

@@ -10,6 +10,7 @@ values are generated, not taken from any real data set.
 from __future__ import annotations
 
 import string
+import unicodedata
 
 import pandas as pd
 from hypothesis import strategies as st
@@ -142,6 +143,86 @@ def frames(draw: st.DrawFn, max_columns: int = 4, max_rows: int = 25) -> pd.Data
     data = {f"col{i}": [*c, *[""] * (rows - len(c))] for i, c in enumerate(columns)}
     if draw(st.booleans()):
         countries = st.sampled_from(["DE", "United Kingdom", "France", "US", "Schweiz", "IN"])
+        data["Country"] = draw(st.lists(countries, min_size=rows, max_size=rows))
+    return pd.DataFrame(data, dtype=object)
+
+
+# --------------------------------------------------------------------------
+# Sharper columns for the idempotence properties (tests/test_reliability.py)
+
+# Marks a reader takes one for another, and the invisible format characters (Unicode 15
+# ch. 23.2) that slip into copied cells
+LOOKALIKES = {".": ("·", ",", " ", "", "-"), ",": (".", "·", ""), "-": ("‐", "–", " ", "/"),
+              "/": ("-", "."), " ": ("\u00a0", "\u202f", "  ", "\t", ""), ":": (".",)}
+INVISIBLE = ("\u200b", "\u00ad", "\ufeff", "\u2060")
+
+
+@st.composite
+def lookalike(draw: st.DrawFn, text: str) -> str:
+    """The same value as another export might write it: a mark swapped, the case changed,
+    an invisible character slipped in, spaces around, another Unicode normal form."""
+    for step in draw(st.lists(st.integers(0, 4), max_size=2)):
+        if step == 0 and text:
+            at = draw(st.integers(0, len(text) - 1))
+            if text[at] in LOOKALIKES:
+                text = text[:at] + draw(st.sampled_from(LOOKALIKES[text[at]])) + text[at + 1:]
+        elif step == 1:
+            text = draw(st.sampled_from([text.upper(), text.lower(), text.title()]))
+        elif step == 2:
+            at = draw(st.integers(0, len(text)))
+            text = text[:at] + draw(st.sampled_from(INVISIBLE)) + text[at:]
+        elif step == 3:
+            text = draw(st.sampled_from(SPACES)) + text + draw(st.sampled_from(SPACES))
+        else:
+            text = unicodedata.normalize(draw(st.sampled_from(["NFD", "NFKC"])), text)
+    return text
+
+
+@st.composite
+def lookalike_columns(draw: st.DrawFn) -> list[str]:
+    """Values of one family, each beside look-alike variants of itself, and some noise."""
+    family = draw(st.sampled_from(FAMILIES))
+    values = []
+    for value in draw(st.lists(family, min_size=2, max_size=8)):
+        values.append(value)
+        values += [draw(lookalike(value)) for _ in range(draw(st.integers(0, 2)))]
+    values += draw(st.lists(cells, max_size=4))
+    return draw(st.permutations(values))
+
+
+@st.composite
+def sentinel_columns(draw: st.DrawFn) -> list[str]:
+    """Amounts in one notation (one of them showing which mark is decimal), a run of nines
+    among them, and noise that is not a number."""
+    decimal, group = draw(st.sampled_from([(".", ","), (",", "."), (",", " "), (".", "'"),
+                                           (".", "")]))
+    affix = draw(st.sampled_from(["", "", "€ ", "USD ", " kg", " lb"]))
+
+    def written(whole: int, cents: int | None, sign: str = "") -> str:
+        text = f"{whole:,}".replace(",", group) + ("" if cents is None else f"{decimal}{cents:02d}")
+        return f"{affix}{sign}{text}" if affix.endswith(" ") else f"{sign}{text}{affix}"
+
+    amount = st.builds(written, st.integers(0, 10**7), st.none() | st.integers(0, 99),
+                       st.sampled_from(["", "", "", "", "-"]))
+    values = [written(draw(st.integers(0, 10**4)), draw(st.integers(1, 99)))]  # decides
+    values += draw(st.lists(amount, min_size=4, max_size=20))
+    nines = draw(st.sampled_from([99, 999, 9999, 99999]))
+    sentinel = written(nines, draw(st.none() | st.just(0)), draw(st.sampled_from(["", "-"])))
+    values += [sentinel] * draw(st.integers(1, 3))
+    noise = st.one_of(words, st.sampled_from(FORMULAS), st.sampled_from(MISSING), dates())
+    values += draw(st.lists(noise, max_size=3))
+    return draw(st.permutations(values))
+
+
+@st.composite
+def tables(draw: st.DrawFn, columns: st.SearchStrategy[list[str]],
+           max_columns: int = 2) -> pd.DataFrame:
+    """A table of the given columns, sometimes with a country column."""
+    drawn = draw(st.lists(columns, min_size=1, max_size=max_columns))
+    rows = max(len(c) for c in drawn)
+    data = {f"col{i}": [*c, *[""] * (rows - len(c))] for i, c in enumerate(drawn)}
+    if draw(st.integers(0, 3)) == 0:
+        countries = st.sampled_from(["DE", "United Kingdom", "France", "US"])
         data["Country"] = draw(st.lists(countries, min_size=rows, max_size=rows))
     return pd.DataFrame(data, dtype=object)
 

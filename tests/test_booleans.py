@@ -41,6 +41,16 @@ def test_language_pairs_read_as_true_and_false(yes: str, no: str) -> None:
     assert out[f" {yes.upper()} "] == "true" and out[no.lower() + "."] == "false"
 
 
+@pytest.mark.parametrize("hidden", ["\u200b", "\ufeff", "\u00ad", "\u2060"])
+def test_invisible_characters_do_not_hide_a_word(hidden: str) -> None:
+    # Unicode 15 ch. 23.2 (format characters): U+200B ZERO WIDTH SPACE, U+FEFF ZERO WIDTH
+    # NO-BREAK SPACE (byte order mark), U+00AD SOFT HYPHEN, U+2060 WORD JOINER are invisible;
+    # "y<U+200B>es" is "yes" to a reader, and the text engine writes it so on a second run
+    assert fold_word(f"y{hidden}es") == "yes" and fold_word(f"{hidden}Nein") == "nein"
+    out = convert_all([f"{hidden}yes", "no", f"n{hidden}o", "yes"])
+    assert out == {f"{hidden}yes": "true", "no": "false", f"n{hidden}o": "false", "yes": "true"}
+
+
 @pytest.mark.parametrize("values", [
     ["x", "x", "x"],                 # a mark alone: ticked or crossed?
     ["M", "F", "M", "F"],            # a two-valued category

@@ -266,6 +266,17 @@ def test_conservative_without_a_phone_header(values: list[str]) -> None:
     assert decision is None or decision.fit < 0.8
 
 
+def test_plain_decimals_are_not_phones_without_a_phone_header() -> None:
+    # weights in kg as harmonize writes a units column (plain decimals, NIST SP 811 B.8:
+    # 1 lb = 0.45359237 kg); read in DE, several are valid numbers to phonenumbers
+    kilograms = ["39.46253619", "32.2095941937", "40.2381791427", "28.7260047921",
+                 "395.98613901", "26.30835746", "43.0776673789"]
+    assert pn.is_valid_number(pn.parse(kilograms[0], "DE"))   # why this needs a rule
+    frame = pd.DataFrame({"Weight (kg)": kilograms, "Country": ["DE"] * len(kilograms)})
+    _, decision = decide(frame, column="Weight (kg)")
+    assert decision is None or decision.fit < 0.8
+
+
 def test_formatted_numbers_without_a_header_are_claimed() -> None:
     values = ["+44 121 234 5678", "+49 30 123456", "+33 1 23 45 67 89", "+1 201-555-0123"]
     _, decision = decide(pd.DataFrame({"Contact": values}), column="Contact")

@@ -13,23 +13,34 @@ import hashlib
 import io
 import json
 import os
+import re
 import signal
 import subprocess
 import sys
 import time
+import unicodedata
 import zipfile
 from pathlib import Path
 
+import numpy as np
 import openpyxl
 import pandas as pd
 import pytest
 from click.testing import CliRunner
+from corpora.contacts import generate
+from corpora.exports import corpus
+from corpora.numbers import make_table
+from corpora.quantities import make_sheet
 from hypothesis import HealthCheck, given, settings
-from strategies import frames
+from hypothesis import strategies as st
+from strategies import frames, lookalike_columns, sentinel_columns, tables
 
 from harmonize import pipeline
 from harmonize.cli import main
 from harmonize.engines.base import Outcome
+from harmonize.engines.identifiers import _CODE, LONG_DIGITS, _shape
+from harmonize.engines.missing import SENTINEL_GAP, _sentinels, missing_with_mask
+from harmonize.evidence import ColumnEvidence
 from harmonize.pipeline import harmonize_frame
 from harmonize.safety import (
     LimitError,
@@ -491,17 +502,84 @@ def test_every_cell_ends_in_exactly_one_outcome(frame: pd.DataFrame) -> None:
         assert (text[missing_rows.to_numpy()] == "").all()
 
 
-@pytest.mark.xfail(strict=True, reason=(
-    "engines not yet idempotent: the text engine folds '-0·0 €' into '-0.0 €', so the column "
-    "['0e3', '0e3 €', '(0) €', '-0.0 €', '-0·0 €'] is text on the first run and numbers on "
-    "the second; a numbers column holding '-711.826' beside integers is undecided when read "
-    "again"))
+def harmonised_again(frame: pd.DataFrame, name: str = "<frame>") -> pd.DataFrame:
+    """The output of harmonising ``frame``, after checking a second run leaves it alone."""
+    once, _, _ = harmonize_frame(frame, name=name)
+    twice, _, _ = harmonize_frame(once, name=name)
+    pd.testing.assert_frame_equal(once.astype(str), twice.astype(str), obj=name)
+    return once
+
+
 @PROPERTY
 @given(frames())
 def test_harmonising_its_own_output_changes_nothing(frame: pd.DataFrame) -> None:
-    once, _, _ = harmonize_frame(frame)
-    twice, _, _ = harmonize_frame(once)
-    pd.testing.assert_frame_equal(once.astype(str), twice.astype(str))
+    harmonised_again(frame)
+
+
+@PROPERTY
+@given(tables(lookalike_columns()))
+def test_lookalike_spellings_read_the_same_the_second_time(frame: pd.DataFrame) -> None:
+    # the text engine's cleaning (invisible characters, spaces, variant spellings) must not
+    # turn a column into one another engine claims on the next run
+    harmonised_again(frame)
+
+
+@PROPERTY
+@given(tables(sentinel_columns(), max_columns=1))
+def test_sentinels_are_set_aside_on_the_first_run(frame: pd.DataFrame) -> None:
+    # a -999 beside "1.234,50" is as much a sentinel as beside "1234.5" (its plain rewriting)
+    harmonised_again(frame)
+
+
+@pytest.mark.parametrize(("values", "country", "first"), [
+    # invisible characters: the booleans engine reads through them (Unicode 15 ch. 23.2)
+    (["\ufeffyes", "no", "yes"], None, ["true", "false", "true"]),
+    # cleaning a soft hyphen away would make the column numbers on the next run
+    (["-14\u00ad3.87944", "-5 825 540 603,20"], None, None),
+    ([" +533.53\ufeff7.495"], None, None),
+    # '-0·0 €' is not the commoner '-0.0 €': between digits a mark carries the value
+    (["0e3", "0e3 €", "(0) €", "-0.0 €", "-0·0 €"], None, None),
+    # a sentinel among amounts written with a decimal comma and group marks
+    (["1.234,50", "2.345,10", "3.456,00", "4.567,80", "5.678,90", "6.789,00", "-999"], None,
+     ["1234.5", "2345.1", "3456", "4567.8", "5678.9", "6789", ""]),
+    (["39,09", "2.331,41", "312,14", "-9999,00", "1,32", "37"], None, None),
+    (["-999", "618,39", "51 209", "0,28", "14,27", "-0"], None, None),   # "-0" is no negative
+    (["USD -9999.00", "USD 1", "USD 60.07", "USD 12,473.84", "USD 0.40", "+281e3"], None, None),
+    # kilograms written plainly are not German phone numbers on the next run
+    (["87 lb", "71,01 lb", "88,71 lb", "63,33 lb", "873 lb", "58 lb", "94,97 lb", "-999,00 lb"],
+     "DE", None),
+])
+def test_known_second_run_changes_stay_fixed(values: list[str], country: str | None,
+                                             first: list[str] | None) -> None:
+    data = {"col0": values} | ({"Country": [country] * len(values)} if country else {})
+    once = harmonised_again(pd.DataFrame(data, dtype=object))
+    if first is not None:
+        assert once.iloc[:, 0].tolist() == first
+
+
+@pytest.mark.xfail(strict=True, reason=(
+    "sentinels are decided in missing.py before the numbers engine reads the column; a "
+    "cell it leaves undecided ('-7,088': a decimal or a group mark?) is empty on the "
+    "second run, and without that negative value '-999' reads as a sentinel. Needs the "
+    "numbers engine to decide sentinels on its own readings, as the dates engine does."))
+def test_an_undecided_cell_does_not_change_what_is_a_sentinel() -> None:
+    harmonised_again(pd.DataFrame({"Amount": ["USD 297", "USD 79", "USD 375", "USD 40",
+                                              "USD -7,088", "USD 28", "USD -999"]}))
+
+
+@pytest.mark.parametrize("seed", [11, 23])
+def test_generated_exports_are_idempotent(tmp_path: Path, seed: int) -> None:
+    # invented branch exports of every kind (tests/corpora/exports.py), read back from files
+    for item in corpus(6, seed):
+        path = item.write(tmp_path)
+        for table in read_tables(path):
+            harmonised_again(table.frame, name=path.name)
+
+
+def test_generated_price_lists_stock_and_contacts_are_idempotent() -> None:
+    harmonised_again(make_table(3).frame, name="prices.csv")
+    harmonised_again(make_sheet(1, 400).frame, name="depots.csv")
+    harmonised_again(generate(2, 600).frame, name="contacts.csv")
 
 
 def test_samples_are_idempotent(tmp_path: Path) -> None:
@@ -523,3 +601,141 @@ def test_samples_are_idempotent(tmp_path: Path) -> None:
         if not name.endswith(".xlsx"):  # a workbook stores its save time; text must match
             assert (first / name).read_bytes() == (second / name).read_bytes(), name
     assert checksums(SAMPLES) == before
+
+
+# --------------------------------------------------------------------------
+# Speed without changing answers: whole-column passes agree with a value-by-value reading
+
+CODE_ALPHABET = "Ab09 -_/.#\t\u00a0é٣:,"
+
+
+def shape_one_by_one(values: list[str], counts: list[int]) -> dict[str, float]:
+    """The identifiers engine's shares, value by value with Python's re (ASCII digits,
+    as RE2's \\d)."""
+    rows = [(v.strip(), float(c)) for v, c in zip(values, counts, strict=True)]
+    total = max(sum(c for _, c in rows), 1.0)
+    digits = [(t, c) for t, c in rows if re.fullmatch(r"[0-9]+", t)]
+    codes = [(t, c) for t, c in rows if re.match(_CODE, t)]
+    width = -1
+    if digits:
+        by_width: dict[int, float] = {}
+        for t, c in digits:
+            by_width[len(t)] = by_width.get(len(t), 0.0) + c
+        width = min(by_width, key=lambda w: (-by_width[w], w))
+    digit_cells = sum(c for _, c in digits)
+    return {
+        "digits": digit_cells / total,
+        "code": sum(c for _, c in codes) / total,
+        "lead0": sum(c for t, c in digits if len(t) >= 2 and t[0] == "0") / total,
+        "long": sum(c for t, c in digits if len(t) >= LONG_DIGITS) / total,
+        "fixed": sum(c for t, c in digits if len(t) == width) / max(digit_cells, 1.0),
+        "width": float(width),
+        "decimal": float(any(re.fullmatch(r"[0-9]+[.,][0-9]+", t) for t, _ in rows)),
+        "lettered": sum(c for t, c in codes if re.search("[A-Za-z]", t)) / total,
+    }
+
+
+@settings(max_examples=200, deadline=None)
+@given(st.lists(st.tuples(st.text(alphabet=CODE_ALPHABET, max_size=10), st.integers(1, 5)),
+                min_size=1, max_size=30, unique_by=lambda pair: pair[0]))
+def test_identifier_shapes_in_arrow_match_a_value_by_value_reading(pairs) -> None:
+    values, counts = [v for v, _ in pairs], [c for _, c in pairs]
+    column = ColumnEvidence("Ref", 0, np.asarray(values, dtype=object),
+                            np.asarray(counts, dtype=np.int64))
+    assert _shape(column) == pytest.approx(shape_one_by_one(values, counts), rel=1e-12)
+
+
+# A number as exports write it, for the reference reading below: one kind of group mark,
+# the other mark before a fraction (RE2's \d and \s, which the engine uses, are ASCII)
+SPACE = r"[\t\n\f\r \u00a0\u202f]"
+AFFIX = r"[^0-9\t\n\f\r \u00a0\u202f\-+−()]"   # checked by affix_ok below
+REF_BODIES = [("[1-9][0-9]{0,2}(?:,[0-9]{3})+", r"\.[0-9]+"),
+              (r"[1-9][0-9]{0,2}(?:\.[0-9]{3})+", ",[0-9]+"),
+              (f"[1-9][0-9]{{0,2}}(?:{SPACE}[0-9]{{3}})+", "[.,][0-9]+"),
+              ("[1-9][0-9]{0,2}(?:['’][0-9]{3})+", "[.,][0-9]+"),
+              ("[0-9]+", "[.,][0-9]+")]
+REF_NUMBER = re.compile(
+    f"^(?P<sign>[-+−(]?)(?:(?P<before>{AFFIX}{{1,3}}){SPACE}?)?(?P<sign2>[-+−(]?)(?:"
+    + "|".join(f"(?P<whole{i}>{w})(?P<fraction{i}>{f})?" for i, (w, f) in enumerate(REF_BODIES))
+    + rf")(?:e(?P<exponent>[-+]?[0-9]{{1,3}}))?\)?(?:{SPACE}?(?P<after>{AFFIX}{{1,4}}))?$")
+
+
+def affix_ok(affix: str | None) -> bool:
+    """A currency or unit: letters, currency signs (Unicode categories L*, Sc), % ‰ ° ² ³ ' " . /"""
+    return all(unicodedata.category(ch)[0] == "L" or unicodedata.category(ch) == "Sc"
+               or ch in "%‰°²³'\"./" for ch in affix or "")
+
+
+def sentinels_one_by_one(folded: list[str], counts: list[int], min_share: float) -> set[str]:
+    """The sentinel rule of harmonize/engines/missing.py, read value by value: the first
+    reading Python's re finds (a grouped whole part before a plain one) gives the size."""
+    read = {}
+    for text in folded:
+        found = REF_NUMBER.match(text)
+        if found and affix_ok(found["before"]) and affix_ok(found["after"]):
+            i = next(i for i in range(len(REF_BODIES)) if found[f"whole{i}"] is not None)
+            whole = re.sub("[^0-9]", "", found[f"whole{i}"])
+            fraction = (found[f"fraction{i}"] or "")[1:]
+            size = float(whole)
+            if found["exponent"]:
+                size = float(f"{whole}.{fraction}") * 10.0 ** int(found["exponent"])
+            negative = bool(set(found["sign"] + found["sign2"]) & set("-−("))
+            read[text] = (whole, fraction, found["exponent"], size,
+                          negative and re.search("[1-9]", text) is not None)
+    numeric = sum(c for t, c in zip(folded, counts, strict=True) if t in read)
+    if numeric < min_share * max(sum(counts), 1):
+        return set()
+    nines = {t for t, (whole, fraction, exponent, _, _) in read.items()
+             if not exponent and re.fullmatch("9{2,}", whole) and set(fraction) <= {"0"}}
+    others = [r for t, r in read.items() if t not in nines]
+    others_n = sum(1 for t in folded if t in read and t not in nines)
+    if not nines or others_n < 5:
+        return set()
+    span = max(max(r[3] for r in others), 1.0)
+    alone_negative = not any(r[4] for r in others)
+    return {t for t in nines
+            if (read[t][4] and alone_negative) or read[t][3] >= SENTINEL_GAP * span}
+
+
+@st.composite
+def numeric_columns(draw: st.DrawFn) -> list[str]:
+    """Distinct numbers in one notation, sometimes with runs of nines, and some junk."""
+    mark = draw(st.sampled_from([",", ".", " ", "'", ""]))
+    before, after = draw(st.sampled_from([("", ""), ("€ ", ""), ("", " kg"), ("usd ", ""),
+                                          ("", "%"), ("=", ""), ("#", ""), ("₱", ""), ("", "½")]))
+
+    def written(whole: int, sign: str, cents: str | None) -> str:
+        decimal = "." if mark == "," else ","
+        text = f"{whole:,}".replace(",", mark) + (decimal + cents if cents is not None else "")
+        return f"{before}{sign}{text}{')' if sign == '(' else ''}{after}"
+
+    fraction = st.none() | st.sampled_from(["00", "5", "000", "0000"])
+    signs = ["", "", "", "-"] if draw(st.booleans()) else [""]
+    top = draw(st.sampled_from([50, 400, 3000, 30_000]))
+    values = draw(st.lists(st.builds(written, st.integers(0, top), st.sampled_from(signs),
+                                     fraction), min_size=2, max_size=20))
+    values += draw(st.lists(st.builds(written, st.sampled_from([99, 999, 9999, 99999]),
+                                      st.sampled_from(["", "-", "(", "−"]), fraction),
+                            min_size=1, max_size=3))
+    values += draw(st.lists(st.sampled_from(["abc", "1e3", "2.5e-1", "1,234e3", "9,999,000",
+                                             "99.000", "9.999.00", "room 12", "-0", "0,000",
+                                             "9 999,00", "=-1"]), max_size=2))
+    return list(dict.fromkeys(values))
+
+
+@settings(max_examples=200, deadline=None)
+@given(numeric_columns(), st.sampled_from([0.5, 0.8]))
+def test_sentinel_rule_in_arrow_matches_a_value_by_value_reading(values: list[str],
+                                                                  share: float) -> None:
+    # sizes are whole parts, so a run of nines and its plain rewriting read alike
+    folded = [v.strip().lower() for v in values]
+    counts = np.ones(len(values), dtype=np.int64)
+    assert _sentinels(pd.Series(folded, dtype="str"), counts, share) == sentinels_one_by_one(
+        folded, counts.tolist(), share)
+
+
+def test_missing_words_hidden_by_invisible_characters() -> None:
+    # Unicode 15 ch. 23.2: U+200B ZERO WIDTH SPACE and U+FEFF (byte order mark) are invisible
+    values = np.asarray(["N/A\u200b", "\ufeffnull", "7", "8"], dtype=object)
+    rule, mask = missing_with_mask(ColumnEvidence("Qty", 0, values, np.ones(4, np.int64)))
+    assert mask.tolist() == [True, True, False, False] and rule.tokens == {"n/a", "null"}

@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import json
+import re
 import unicodedata
 
 import pandas as pd
@@ -15,9 +16,14 @@ from harmonize.engines.base import Outcome
 from harmonize.engines.text import (
     TextEngine,
     case_style,
+    case_styles,
+    case_styles_in_arrow,
     fold,
+    fold_in_arrow,
     fold_many,
     normalise,
+    normalise_in_arrow,
+    normalise_many,
     suggest_merges,
 )
 from harmonize.evidence import TableEvidence
@@ -214,3 +220,105 @@ def test_fold() -> None:
     assert fold("Straße") == fold("STRASSE")  # casefold: ß -> ss (Unicode full case folding)
     assert fold("?!") == "?!"                 # no letters: keyed as itself
     assert fold("Işıkdere") == fold("IŞIKDERE") == fold("isikdere")  # dotless ı upper-cases to I
+
+
+# --- a second run reads the output as the first run read the input -----------------------
+
+@pytest.mark.parametrize(("values", "apart"), [
+    (["1.5", "1,5", "15", "1-5", "1/5", "1 5"], True),
+    (["AB-12", "ab 12", "AB12", "ab.12"], False),
+    (["12-AB", "12 ab"], False),
+])
+def test_punctuation_between_two_digits_is_kept(values: list[str], apart: bool) -> None:
+    # common practice, no source: between digits a mark carries the value (a decimal, a
+    # grouping, a range, a fraction); between a letter and a digit it is only spelling
+    keys = fold_many(values)
+    assert len(set(keys)) == (len(values) if apart else 1)
+
+
+def harmonised_twice(frame: pd.DataFrame, **options) -> tuple[pd.DataFrame, dict]:
+    from harmonize.pipeline import harmonize_frame
+
+    once, entry, _ = harmonize_frame(frame, options=Options(**options))
+    twice, _, _ = harmonize_frame(once, options=Options(**options))
+    pd.testing.assert_frame_equal(once, twice)
+    return once, entry
+
+
+def test_cleaning_that_would_turn_the_column_into_numbers_is_not_done() -> None:
+    # U+200B ZERO WIDTH SPACE (Unicode 15 ch. 23.2) hides inside amounts the numbers engine
+    # does not read; removed, they would read as numbers on a second run
+    values = ["1\u200b234,50", "2\u200b345,10", "3\u200b456,00", "4\u200b567,80", "17,25"]
+    once, entry = harmonised_twice(pd.DataFrame({"Betrag": values}, dtype=object))
+    column = entry["columns"][0]
+    assert column["kind"] == "text" and once["Betrag"].tolist() == values
+    assert "would read as number" in column["evidence"][-1]
+    assert column["details"]["kept_for_stability"].endswith("(numbers engine)")
+
+
+def test_country_codes_that_would_read_as_booleans_are_not_written() -> None:
+    # ISO 3166-1 alpha-2 (from memory): NO is Norway, which a second run reads as "no"
+    values = ["Norway", "Norway", "NORWAY", "Norge"]
+    once, entry = harmonised_twice(pd.DataFrame({"Land": values}, dtype=object),
+                                   engine={"text": {"country_codes": True}})
+    assert once["Land"].tolist() == ["Norway", "Norway", "Norway", "Norge"]  # merged, no codes
+    assert entry["columns"][0]["evidence"][-1].endswith(
+        "country names are kept, not written as codes")
+    coded, _ = harmonised_twice(pd.DataFrame({"Land": ["Norway", "Sweden", "NORWAY"]}),
+                                engine={"text": {"country_codes": True}})
+    assert coded["Land"].tolist() == ["NO", "SE", "NO"]    # beside other codes: no booleans
+
+
+# --- speed without changing answers: the Arrow passes agree with Python's re -------------
+
+# The specification, in Python's re with its Unicode classes, as the engine first ran it
+# value by value (Unicode UAX #15 normal forms from unicodedata).
+SPEC_SEPARATOR = "[\\s\\-\u2010-\u2015.,;:·'\u2018\u2019`´\"\u201c\u201d/\\\\_()\\[\\]{}!?¡¿…]"
+SPEC_INNER = re.compile(rf"(?<=[^\W\d_]){SPEC_SEPARATOR}+(?=[^\W_])"
+                        rf"|(?<=\d){SPEC_SEPARATOR}+(?=[^\W\d_])")
+SPEC_COMBINING = re.compile("[\u0300-\u036f\u1ab0-\u1aff\u1dc0-\u1dff\u20d0-\u20ff\ufe20-\ufe2f]")
+
+
+def spec_normalise(value: str) -> str:
+    value = re.sub("[\u200b\u200c\u200d\u2060\ufeff\u00ad\u180e]", "",
+                   unicodedata.normalize("NFC", value))
+    return re.sub(r"\s+", " ", value).strip()
+
+
+def spec_fold_steps(decomposed: str) -> str:
+    return re.sub(r"[.\s]+$", "", SPEC_INNER.sub("", SPEC_COMBINING.sub("", decomposed)))
+
+
+def spec_fold(value: str) -> str:
+    key = spec_fold_steps(unicodedata.normalize("NFKD", value.casefold().replace("ı", "i")))
+    key = key if key.isascii() else "".join(c for c in key if not unicodedata.combining(c))
+    return key or value
+
+
+TRICKY = st.sampled_from(list("aZé1٣²_-.· \u00a0\u200b\t,/'’İıßÅ\u0301ǅ…!()\u2028\x1cﬁ①"))
+# assigned characters only: Arrow's Unicode tables are newer than Python 3.11's (14.0)
+ANY_TEXT = st.text(st.one_of(st.characters(blacklist_categories=("Cs", "Cn")), TRICKY),
+                   max_size=12)
+
+
+@settings(max_examples=40, deadline=None)   # each Arrow call compiles its patterns
+@given(st.lists(ANY_TEXT, min_size=1, max_size=80))
+def test_arrow_cleaning_and_folding_agree_with_python_re(values: list[str]) -> None:
+    # a few values go through Python's re, many through Arrow: both give the specification
+    cleaned = normalise_many(values)
+    assert cleaned == normalise_in_arrow(values) == [spec_normalise(v) for v in values]
+    for texts in (values, cleaned):
+        decomposed = [unicodedata.normalize("NFKD", v.casefold().replace("ı", "i"))
+                      for v in texts]
+        assert fold_many(texts) == [spec_fold(v) for v in texts]
+        assert fold_in_arrow(decomposed) == [spec_fold_steps(k) for k in decomposed]
+
+
+ASCII_WORDS = st.text(st.sampled_from(list("aAbBzZ019 -'/\t.\x1c_Mc")), max_size=16)
+
+
+@settings(max_examples=60, deadline=None)
+@given(st.lists(st.one_of(ASCII_WORDS, ANY_TEXT), max_size=80))
+def test_case_styles_in_arrow_agree_with_case_style(values: list[str]) -> None:
+    expected = [case_style(v) for v in values]
+    assert case_styles(values).tolist() == case_styles_in_arrow(values).tolist() == expected

@@ -32,6 +32,9 @@ from harmonize.evidence import ColumnEvidence
 from harmonize.locales import load_entries
 
 TRUE_MARKS = frozenset("✓✔☑✅")
+# Format characters that hide in copied cells: zero-width (non-)joiners and spaces, word
+# joiner, byte order mark, soft hyphen, Mongolian vowel separator (Unicode category Cf)
+INVISIBLE = dict.fromkeys(map(ord, "\u200b\u200c\u200d\u2060\ufeff\u00ad\u180e"))
 NUMERIC = re.compile(r"^[+-]?\d+(?:[.,]\d+)?$")
 # A column whose only readings are letters may hold a few stray values, no more.
 LETTERS_MAX_UNREAD = 0.05
@@ -40,9 +43,11 @@ MAX_DISTINCT = 2000
 
 
 def fold_word(text: str) -> str:
-    """'  Sí. ' -> 'si': case, accents, outer space and a trailing full stop folded away."""
+    """'  Sí. ' -> 'si': case, accents, outer space, invisible characters (zero-width space,
+    soft hyphen, byte order mark) and a trailing full stop folded away."""
     # dotless ı (Turkish) upper-cases to I, which folds to i: fold ı to i as well
-    decomposed = unicodedata.normalize("NFKD", text.strip().casefold().replace("ı", "i"))
+    visible = text.translate(INVISIBLE).strip().casefold().replace("ı", "i")
+    decomposed = unicodedata.normalize("NFKD", visible)
     return "".join(ch for ch in decomposed if not unicodedata.combining(ch)).rstrip(".").strip()
 
 

@@ -15,9 +15,12 @@ from typing import Any, ClassVar
 
 import numpy as np
 import pandas as pd
+import pyarrow as pa
+import pyarrow.compute as pc
 
 from harmonize.context import Context
 from harmonize.engines.base import Converted, Decision
+from harmonize.engines.missing import arrow_text
 from harmonize.evidence import ColumnEvidence
 
 _CODE = r"^(?=.*\d)[A-Za-z0-9](?:[A-Za-z0-9\-_/.#]| (?! ))*$"  # one space between parts
@@ -39,19 +42,39 @@ def header_names_code(header: str) -> bool:
 
 def is_code(trimmed: pd.Series) -> np.ndarray:
     """``_CODE`` on trimmed Arrow-backed text: code characters, with a digit somewhere."""
-    return (trimmed.str.match(_CODE_CHARS).to_numpy(dtype=bool)
-            & trimmed.str.contains(r"[0-9]").to_numpy(dtype=bool))
+    return _code_mask(pa.array(trimmed, type=pa.large_string()))
+
+
+def _code_mask(trimmed: pa.Array) -> np.ndarray:
+    return (_flags(pc.match_substring_regex(trimmed, _CODE_CHARS))
+            & _flags(pc.match_substring_regex(trimmed, "[0-9]")))
+
+
+def _flags(mask: pa.Array) -> np.ndarray:
+    """A boolean Arrow array as numpy (null, for a null value, counts as False)."""
+    return np.asarray(pc.fill_null(mask, False), dtype=bool)
 
 
 def _shape(column: ColumnEvidence) -> dict[str, float]:
-    """Weighted shares of the column's cells by shape."""
-    text = pd.Series(column.values, dtype="str").str.strip()  # Arrow-backed: fast
+    """Weighted shares of the column's cells by shape.
+
+    Everything runs in Arrow on the whole column; the regular expressions run only on the
+    values that are not plain digit strings (in an identifier column, usually none).
+    """
+    text = pc.utf8_trim_whitespace(arrow_text(column.values))
     weights = column.counts.astype(float)
     total = max(weights.sum(), 1.0)
-    digits = text.str.fullmatch(r"\d+").to_numpy(dtype=bool)
-    code = is_code(text)
-    lengths = text.str.len().to_numpy()
-    lead0 = digits & (lengths >= 2) & text.str.startswith("0").to_numpy(dtype=bool)
+    digits = _flags(pc.ascii_is_decimal(text))   # RE2's \d+: ASCII digits only
+    lengths = np.asarray(pc.fill_null(pc.utf8_length(text), 0), dtype=np.int64)
+    code, lettered = digits.copy(), np.zeros(len(digits), dtype=bool)
+    decimal = False
+    others = np.flatnonzero(~digits)
+    if len(others):
+        rest = text.take(pa.array(others))
+        code[others] = _code_mask(rest)
+        lettered[others] = code[others] & _flags(pc.match_substring_regex(rest, "[A-Za-z]"))
+        decimal = bool(_flags(pc.match_substring_regex(rest, r"^\d+[.,]\d+$")).any())
+    lead0 = digits & (lengths >= 2) & _flags(pc.starts_with(text, "0"))
     long = digits & (lengths >= LONG_DIGITS)
     modal = np.bincount(lengths[digits], weights=weights[digits]).argmax() if digits.any() else -1
     return {
@@ -61,9 +84,8 @@ def _shape(column: ColumnEvidence) -> dict[str, float]:
         "long": weights[long].sum() / total,
         "fixed": weights[digits & (lengths == modal)].sum() / max(weights[digits].sum(), 1.0),
         "width": float(modal),
-        "decimal": float(text.str.fullmatch(r"\d+[.,]\d+").to_numpy(dtype=bool).any()),
-        "lettered": weights[code & text.str.contains(r"[A-Za-z]").to_numpy(dtype=bool)].sum()
-        / total,
+        "decimal": float(decimal),
+        "lettered": weights[lettered].sum() / total,
     }
 
 
@@ -99,5 +121,5 @@ class IdentifierEngine:
     def convert(self, values: Sequence[str], convention: Mapping[str, Any]) -> Converted:
         result = Converted.empty(len(values))   # every value passed through
         trim = bool(convention.get("trim", True))
-        result.text = [raw.strip() for raw in values] if trim else list(values)
+        result.text = list(map(str.strip, values)) if trim else list(values)
         return result

@@ -49,6 +49,9 @@ PHONE_SHAPE = re.compile(
     r"^(?:tel:)?\s*(?:\+|\(\+?)?\d[\d\s().\-/]{4,}\d\)?"
     r"(?:\s*(?:;ext=|#|x|ext\.?|extn\.?)\s*\d{1,7})?$", re.IGNORECASE)
 FORMATTED = re.compile(r"[+\s().\-/]")
+# "39.46253619", "-14.5", "0,25": a number with one decimal mark, as a numbers or units
+# column is written (harmonize's own output among them), is no evidence of a phone
+PLAIN_DECIMAL = re.compile(r"^[-+]?(?:0|[1-9]\d*)[.,]\d+$")
 _TEL_LABEL = re.compile(r"^tel\.?\s*:\s*", re.IGNORECASE)
 _INTERNATIONAL = re.compile(r"^(?:tel\.?\s*:\s*)?\(?\s*\+", re.IGNORECASE)
 # "(work)", "(Büro)": letters only, so never a vanity number's digits
@@ -186,7 +189,7 @@ class _Survey:
     floats: float = 0.0
     regionless: float = 0.0
     invalid_national: float = 0.0  # numbers without a prefix, invalid in their region
-    bare_digits_valid: float = 0.0
+    bare_digits_valid: float = 0.0   # digits only or a plain decimal, yet valid
     extensions: float = 0.0
     codes: Counter[int] | None = None
 
@@ -229,7 +232,8 @@ class PhoneEngine:
             fit = read / survey.total
         else:
             formatted_valid = survey.valid - survey.bare_digits_valid
-            # bare digit strings without a phone header are left to the identifiers engine
+            # bare digit strings and plain decimals without a phone header are left to the
+            # identifiers, numbers and units engines
             if share_valid < VALID_SHARE_NO_HEADER or formatted_valid < 0.5 * survey.valid:
                 return None
             fit = (read - survey.bare_digits_valid) / survey.total
@@ -338,8 +342,16 @@ def _suggested_region(survey: _Survey, default: str | None) -> str | None:
     return None
 
 
+def _bare(value: str) -> bool:
+    """Digits only, or a plain decimal number: what a column of phones without a phone
+    header must not be made of (identifiers, amounts and quantities are)."""
+    text = value.strip()
+    return not FORMATTED.search(text) or bool(PLAIN_DECIMAL.match(text))
+
+
 def _shaped_share(values: list[str], weights: np.ndarray) -> float:
-    shaped = np.fromiter((is_phone_shaped(v) for v in values), dtype=bool, count=len(values))
+    shaped = np.fromiter((is_phone_shaped(v) and not PLAIN_DECIMAL.match(v.strip())
+                          for v in values), dtype=bool, count=len(values))
     return float(weights[shaped].sum() / weights.sum())
 
 
@@ -388,7 +400,7 @@ def _survey(values: list[str], regions: list[str | None], weights: np.ndarray,
         if reading.e164 is not None:
             survey.valid += weight
             survey.extensions += weight if reading.extension else 0.0
-            if not FORMATTED.search(value.strip()):
+            if _bare(value):
                 survey.bare_digits_valid += weight
         elif FLOAT_RENDERING.match(clean(value)):
             survey.floats += weight

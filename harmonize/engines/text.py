@@ -11,7 +11,8 @@ Free text (long, mostly unique values such as notes) is only trimmed.
 
 Convention keys (a person may edit them in a plan file):
 
-``mode``           ``"categories"`` (clean and spell consistently) or ``"free"`` (trim only).
+``mode``           ``"categories"`` (clean and spell consistently), ``"free"`` (trim only) or
+                   ``"as_written"`` (kept as written; trimmed when ``trim`` is true).
 ``canonical``      folded key -> spelling, e.g. ``{"saintetienne": "Saint-Étienne"}``. A value
                    whose key is missing (next month's new town) is cleaned and kept as written.
 ``merge``          spelling -> list of other spellings to write as it, e.g.
@@ -27,14 +28,25 @@ written in more than one way (a single-spelling key gives the same output either
 A value the canonical spelling (or cleaning) changes is CONVERTED; one that stays as
 written, apart from trimming, is PASSED.
 
+Harmonising the output again must change nothing. Text is what no other engine claimed, so
+its cleaning must not turn the column into something another engine claims on the next run
+("y\u200bes" cleaned to "yes" in a column that then reads as booleans, "1·5" written as its
+commoner variant "1.5"), nor write a value the next run sets aside as missing ("N/A\u200b").
+Before proposing, the engine reads its own output as the next run would (missing values,
+then every other engine); when that output would be read differently it steps down to
+gentler cleaning (no merged variants, then trimming only, then the values as written) and
+says so in the evidence and in the details (``kept_for_stability``).
+
 Report details: ``variant_groups`` (up to 100 groups, each {"canonical", "cells_changed",
 "variants": {raw: count}}, with ``variant_groups_total`` and a note when capped),
 ``suggested_merges`` (near matches, never applied), ``country_column`` and ``territories``
 when the values name countries.
 
 The folded key of a value: case folded, compatibility-decomposed, accents dropped, spaces
-and punctuation between letters or digits dropped, a trailing full stop dropped
-("Saint-Étienne" -> "saintetienne", "U.K." -> "uk"); symbols stay ("C++", "A-").
+and punctuation between two letters, or a letter and a digit, dropped, a trailing full stop
+dropped ("Saint-Étienne" -> "saintetienne", "U.K." -> "uk", "AB-12" -> "ab12"); symbols stay
+("C++", "A-"). Between two digits nothing is dropped: "1.5", "1,5", "15", "1-5" and "1/5"
+are different values (a decimal, a grouping, a range, a fraction, a date).
 """
 
 from __future__ import annotations
@@ -43,25 +55,51 @@ import re
 import unicodedata
 from collections import Counter, defaultdict
 from collections.abc import Iterable, Mapping, Sequence
+from dataclasses import dataclass, replace
 from difflib import SequenceMatcher
 from typing import Any, ClassVar
 
 import numpy as np
 import pandas as pd
+import pyarrow as pa
+import pyarrow.compute as pc
 
 from harmonize.context import COUNTRY_SHARE, Context
 from harmonize.engines.base import Converted, Decision, Outcome
 from harmonize.evidence import ColumnEvidence
 from harmonize.territory import territory_of
 
+# Patterns in RE2 syntax, run by Arrow on whole columns. RE2's \s and \w know only ASCII,
+# so the classes are spelled out: _WS is Python's white space (str.isspace), letters and
+# digits are Unicode general categories (L, N; Nd for decimal digits), as Python's \w is.
+_WS = (r"\t-\r\x{1c}-\x{20}\x{85}\x{a0}\x{1680}\x{2000}-\x{200a}\x{2028}\x{2029}\x{202f}"
+       r"\x{205f}\x{3000}")
 # Zero-width and other invisible format characters that only hide differences.
-INVISIBLE = re.compile("[\u200b\u200c\u200d\u2060\ufeff\u00ad\u180e]")
-SPACES = re.compile(r"\s+")             # str patterns: every Unicode white space (U+00A0 ...)
-COMBINING = re.compile("[\u0300-\u036f\u1ab0-\u1aff\u1dc0-\u1dff\u20d0-\u20ff\ufe20-\ufe2f]")
-# Spaces and punctuation (not symbols such as + # & %) between two letters or digits
-_SEPARATOR = "[\\s\\-\u2010-\u2015.,;:·'\u2018\u2019`´\"\u201c\u201d/\\\\_()\\[\\]{}!?¡¿…]"
-INNER_SEPARATORS = re.compile(rf"(?<=[^\W_]){_SEPARATOR}+(?=[^\W_])")
-TRAILING_STOPS = re.compile(r"[.\s]+$")
+INVISIBLE = r"[\x{200b}\x{200c}\x{200d}\x{2060}\x{feff}\x{ad}\x{180e}]"
+SPACES = f"[{_WS}]+"
+COMBINING = r"[\x{300}-\x{36f}\x{1ab0}-\x{1aff}\x{1dc0}-\x{1dff}\x{20d0}-\x{20ff}\x{fe20}-\x{fe2f}]"
+# Spaces and punctuation (not symbols such as + # & %) ...
+_SEPARATOR = (rf"[{_WS}\-\x{{2010}}-\x{{2015}}.,;:·'\x{{2018}}\x{{2019}}`´\"\x{{201c}}\x{{201d}}"
+              r"/\\_()\[\]{}!?¡¿…]")
+_LETTER = r"[\p{L}\p{Nl}\p{No}]"   # a letter, or a digit that is not a decimal digit (²)
+_ALNUM = r"[\p{L}\p{N}]"
+# ... between two letters, or a letter and a digit; never between two digits ("1.5", "15").
+# Each match takes the letters on either side along, so two passes are needed ("a-b-c").
+INNER_SEPARATORS = (rf"({_LETTER}){_SEPARATOR}+({_ALNUM})"
+                    rf"|(\p{{Nd}}){_SEPARATOR}+({_LETTER})")
+KEEP_SIDES = r"\1\2\3\4"
+TRAILING_STOPS = rf"[.{_WS}]+$"
+# The same in Python's re, whose \s, \w and \d are Unicode-aware: quicker on a few values,
+# where compiling the RE2 patterns (large Unicode classes) costs more than running them.
+ARROW_FROM = 1000
+_INVISIBLE = re.compile("[\u200b\u200c\u200d\u2060\ufeff\u00ad\u180e]")
+_SPACES = re.compile(r"\s+")
+_COMBINING = re.compile("[\u0300-\u036f\u1ab0-\u1aff\u1dc0-\u1dff\u20d0-\u20ff\ufe20-\ufe2f]")
+_PY_SEPARATOR = "[\\s\\-\u2010-\u2015.,;:·'\u2018\u2019`´\"\u201c\u201d/\\\\_()\\[\\]{}!?¡¿…]"
+_INNER_SEPARATORS = re.compile(rf"(?<=[^\W\d_]){_PY_SEPARATOR}+(?=[^\W_])"
+                               rf"|(?<=\d){_PY_SEPARATOR}+(?=[^\W\d_])")
+_TRAILING_STOPS = re.compile(r"[.\s]+$")
+WORD_BREAKS = re.compile(r"[\s\-'’/]+")
 
 FREE_MEDIAN_LENGTH = 40     # a column of values this long ...
 FREE_UNIQUE_SHARE = 0.7     # ... and mostly unique is free text
@@ -73,16 +111,32 @@ SIMILARITY = 0.85           # difflib ratio on folded keys for a suggested merge
 MIN_SUGGEST_LENGTH = 5      # shorter keys differ by one letter too often ("bern", "bonn")
 MAX_SUGGEST_KEYS = 50_000
 MAX_COUNTRY_KEYS = 1000
+# Gentler cleaning, tried in turn when a column's output would read differently next run;
+# the last writes every value as it came, which always reads the same.
+GENTLER: tuple[tuple[str, dict[str, Any]], ...] = (
+    ("spelling variants are cleaned but not merged",
+     {"mode": "categories", "canonical": {}, "merge": {}}),
+    ("values are only trimmed", {"mode": "as_written", "trim": True}),
+    ("values are kept exactly as written", {"mode": "as_written", "trim": False}),
+)
+UNSETTLED = 0.5   # a column at the edge of another kind: text or that kind, about even odds
+EDGE = 0.5        # ... when the other kind's engine reads this much of the column as it is
+REWRITTEN = "cells rewritten to their group's canonical spelling"
+AS_CODES = "country names are written as ISO 3166-1 alpha-2 codes"
 
 
 def normalise_many(values: Iterable[str]) -> list[str]:
-    """NFC, invisible characters removed, white space collapsed and trimmed (vectorised)."""
-    series = pd.Series(list(values), dtype=object)
-    if series.empty:
-        return []
-    cleaned = (series.str.normalize("NFC").str.replace(INVISIBLE, "", regex=True)
-               .str.replace(SPACES, " ", regex=True).str.strip())
-    return cleaned.tolist()
+    """NFC, invisible characters removed, white space collapsed and trimmed."""
+    values = list(values)
+    return normalise_in_arrow(values) if len(values) >= ARROW_FROM else [
+        _SPACES.sub(" ", _INVISIBLE.sub("", unicodedata.normalize("NFC", v))).strip()
+        for v in values]
+
+
+def normalise_in_arrow(values: list[str]) -> list[str]:
+    text = pc.utf8_normalize(pa.array(values, type=pa.large_string()), "NFC")
+    text = pc.replace_substring_regex(pc.replace_substring_regex(text, INVISIBLE, ""), SPACES, " ")
+    return pc.utf8_trim(text, " ").to_pylist()   # every white space is a plain space by now
 
 
 def fold_many(values: Iterable[str]) -> list[str]:
@@ -92,17 +146,25 @@ def fold_many(values: Iterable[str]) -> list[str]:
     Symbols and outer punctuation stay, so that 'C++', 'C#' and 'C', or the grades 'A-',
     'A' and 'A+', remain different values. A value that folds to nothing keys as itself.
     """
-    series = pd.Series(list(values), dtype=object)
-    if series.empty:
-        return []
+    values = list(values)
     # dotless ı upper-cases to I, which folds to i: fold ı to i too (Turkish names)
-    folded = (series.str.casefold().str.replace("ı", "i", regex=False).str.normalize("NFKD")
-              .str.replace(COMBINING, "", regex=True)
-              .str.replace(INNER_SEPARATORS, "", regex=True)
-              .str.replace(TRAILING_STOPS, "", regex=True)).tolist()
+    decomposed = [unicodedata.normalize("NFKD", v.casefold().replace("ı", "i"))
+                  for v in values]
+    folded = fold_in_arrow(decomposed) if len(values) >= ARROW_FROM else [
+        _TRAILING_STOPS.sub("", _INNER_SEPARATORS.sub("", _COMBINING.sub("", k)))
+        for k in decomposed]
     # marks outside the common combining blocks, if any, go one value at a time
     keys = [k if k.isascii() else _strip_marks(k) for k in folded]
-    return [k or v for k, v in zip(keys, series.tolist(), strict=True)]  # "...": itself
+    return [k or v for k, v in zip(keys, values, strict=True)]  # "...": itself
+
+
+def fold_in_arrow(decomposed: list[str]) -> list[str]:
+    """Combining marks, inner separators and trailing stops away, on case-folded NFKD text."""
+    text = pc.replace_substring_regex(pa.array(decomposed, type=pa.large_string()), COMBINING,
+                                      "")
+    for _ in range(2):
+        text = pc.replace_substring_regex(text, INNER_SEPARATORS, KEEP_SIDES)
+    return pc.replace_substring_regex(text, TRAILING_STOPS, "").to_pylist()
 
 
 def _strip_marks(text: str) -> str:
@@ -123,37 +185,55 @@ def diacritic_count(text: str) -> int:
 
 def case_style(text: str) -> str:
     """'upper', 'lower', 'title' or 'mixed' (no letters: 'none')."""
-    letters = [ch for ch in text if ch.isalpha()]
-    if not any(ch.isupper() or ch.islower() for ch in letters):
+    if text.isascii():   # quick: an ASCII letter is cased, and upper() changes it
+        if text.upper() == text.lower():
+            return "none"
+    elif not any(ch.isupper() or ch.islower() for ch in text if ch.isalpha()):
         return "none"
     if text.isupper():
         return "upper"
     if text.islower():
         return "lower"
-    words = [w for w in re.split(r"[\s\-'’/]+", text) if w and w[0].isalpha()]
+    words = [w for w in WORD_BREAKS.split(text) if w and w[0].isalpha()]
     if words and all(w[0].isupper() and not w[1:].isupper() for w in words if len(w) > 3):
         return "title"
     return "mixed"
+
+
+@dataclass(frozen=True)
+class Unsettled:
+    """Why a column's output would read differently on a second run."""
+
+    reason: str
+    input_fit: float = 0.0   # how much of the input the engine that would claim it reads
 
 
 class TextEngine:
     name: ClassVar[str] = "text"
 
     def propose(self, column: ColumnEvidence, context: Context) -> Decision | None:
+        decision, written = self._proposal(column, context)
+        return self._settled(decision, column, context, written)
+
+    def _proposal(self, column: ColumnEvidence, context: Context
+                  ) -> tuple[Decision, Converted | None]:
+        """The decision, with its output when working it out gave it for free."""
         raw = column.values.tolist()
         counts = column.counts.tolist()
         options = context.options.for_engine(self.name)
         if not raw:
             return Decision(kind="text", engine=self.name, fit=1.0, confidence=0.5,
-                            convention={"mode": "categories", "canonical": {}, "merge": {}})
+                            convention={"mode": "categories", "canonical": {}, "merge": {}}), None
         normalised = normalise_many(raw)
         if _is_free_text(normalised, counts):
-            return self._free(column, normalised, counts)
+            return self._free(column, normalised, counts), None
         keys = fold_many(normalised)
-        forms = _forms_by_key(keys, normalised, counts)
+        forms = _multi_forms(keys, normalised, counts)
         prevailing = _prevailing_style(normalised, counts)
-        canonical = {key: _canonical(form_counts, prevailing) for key, form_counts in forms.items()}
-        multi = {k for k, f in forms.items() if len(f) > 1}
+        canonical = dict(zip(keys, normalised, strict=True))   # keys written one way
+        canonical.update({key: _canonical(form_counts, prevailing)
+                          for key, form_counts in forms.items()})
+        multi = set(forms)
         kept = canonical if len(canonical) <= MAX_CANONICAL else {k: canonical[k] for k in multi}
         convention: dict[str, Any] = {"mode": "categories", "canonical": dict(sorted(kept.items())),
                                       "merge": {}}
@@ -168,21 +248,21 @@ class TextEngine:
         if len(groups) > MAX_GROUPS_LISTED:
             details["variant_groups_note"] = (f"showing the {MAX_GROUPS_LISTED} groups with the "
                                               f"most cells of {len(groups)}")
-        key_counts = {k: sum(f.values()) for k, f in forms.items()}
+        key_counts = _key_counts(keys, counts)
         suggestions = suggest_merges(canonical, key_counts)
         details["suggested_merges"] = suggestions
         evidence = [f"{len(canonical)} distinct spellings once case, spacing, accents and "
                     "punctuation are folded"]
         if groups:
             changed = sum(g["cells_changed"] for g in groups)
-            evidence.append(f"{len(groups)} variant groups; {changed} cells rewritten to their "
-                            "group's canonical spelling")
+            evidence.append(f"{len(groups)} variant groups; {changed} {REWRITTEN}")
         if suggestions:
             evidence.append(f"{len(suggestions)} near matches suggested for merging (not applied)")
         self._countries(raw, keys, counts, options, convention, details, evidence)
-        return Decision(kind="text", engine=self.name, fit=1.0,
-                        confidence=_confidence(normalised, counts), convention=convention,
-                        evidence=tuple(evidence), details=details)
+        decision = Decision(kind="text", engine=self.name, fit=1.0,
+                            confidence=_confidence(normalised, counts), convention=convention,
+                            evidence=tuple(evidence), details=details)
+        return decision, _written(raw, normalised, keys, convention)
 
     def _free(self, column: ColumnEvidence, normalised: list[str],
               counts: list[int]) -> Decision:
@@ -214,29 +294,123 @@ class TextEngine:
         if options.get("country_codes"):
             convention["country_codes"] = True
             convention["countries"] = {k: v for k, v in sorted(found.items()) if v}
-            evidence.append("country names are written as ISO 3166-1 alpha-2 codes")
+            evidence.append(AS_CODES)
+
+    def _settled(self, decision: Decision, column: ColumnEvidence, context: Context,
+                 written: Converted | None = None) -> Decision:
+        """The decision, or a gentler one when its output would read differently next run."""
+        problem = self._second_reading(column, decision.convention, context, written)
+        if problem is None:
+            return decision
+        # the column at the edge of another kind: text or that kind, about even odds
+        confidence = (min(decision.confidence, UNSETTLED) if problem.input_fit >= EDGE
+                      else decision.confidence)
+        # the last, values as written, always reads the same
+        what, convention = next((what, convention) for what, convention
+                                in _gentler(decision.convention)
+                                if self._second_reading(column, convention, context) is None)
+        undone = (AS_CODES,) if convention.get("canonical") else (AS_CODES, REWRITTEN)
+        kept = [line for line in decision.evidence if not line.endswith(undone)]
+        evidence = (*kept, f"cleaning would change how a second run reads the column "
+                           f"({problem.reason}): {what}")
+        details = {**decision.details, "kept_for_stability": problem.reason}
+        return replace(decision, convention=dict(convention), evidence=evidence,
+                       details=details, confidence=confidence)
+
+    def _second_reading(self, column: ColumnEvidence, convention: Mapping[str, Any],
+                        context: Context, written: Converted | None = None) -> Unsettled | None:
+        """Why the output under ``convention`` (``written``, when already worked out) would
+        be read differently by a second run (missing values set aside, another engine
+        claiming it), or None."""
+        raw = column.values.tolist()
+        result = written if written is not None else self.convert(raw, convention)
+        if result.text == raw and not (result.outcome == Outcome.UNRESOLVED).any():
+            return None   # nothing written differently: the next run reads the same
+        output = _output_evidence(column, result)
+        if output.total == 0:
+            return None
+        # imported here: both import the engines, this one among them
+        from harmonize.decide import proposals
+        from harmonize.engines import engine_named
+        from harmonize.engines.missing import missing_with_mask
+
+        rule, missing = missing_with_mask(output, context.options)
+        if missing.any():
+            already = missing_with_mask(column, context.options)[0].tokens
+            if rule.tokens - already:   # cleaning made them missing, not the input
+                shown = ", ".join(repr(v) for v in output.values[missing][:3].tolist())
+                return Unsettled(f"{int(output.counts[missing].sum())} cells would be missing "
+                                 f"values ({shown})")
+        min_fit = context.options.min_fit
+        for proposal in proposals(output, context):
+            if proposal.fit < min_fit:
+                continue
+            before = engine_named(proposal.engine).propose(column, context)
+            if before is None or before.fit < min_fit:   # the cleaning made the claim
+                return Unsettled(f"{proposal.fit:.0%} of cells would read as {proposal.kind} "
+                                 f"({proposal.engine} engine)",
+                                 before.fit if before is not None else 0.0)
+        return None
 
     def convert(self, values: Sequence[str], convention: Mapping[str, Any]) -> Converted:
         result = Converted.empty(len(values))
-        if convention.get("mode") == "free":
-            for i, raw in enumerate(values):
-                result.set(i, raw.strip(), Outcome.PASSED)
-            return result
+        mode = convention.get("mode")
+        if mode in ("free", "as_written"):
+            trim = mode == "free" or bool(convention.get("trim", True))
+            result.text = list(map(str.strip, values)) if trim else list(values)
+            return result   # every value passed through
         normalised = normalise_many(values)
-        keys = fold_many(normalised)
-        spelling = _spelling_table(convention)
-        countries = convention.get("countries", {}) if convention.get("country_codes") else None
-        for i, (raw, text, key) in enumerate(zip(values, normalised, keys, strict=True)):
-            if countries is not None:
-                code = countries.get(key) or territory_of(text)
-                if code is None:
-                    result.unresolved(i, "not a country name or ISO 3166 code known to CLDR")
-                    continue
-                out = code
-            else:
-                out = spelling.get(key, text)
-            result.set(i, out, Outcome.PASSED if out == raw.strip() else Outcome.CONVERTED)
-        return result
+        return _written(values, normalised, fold_many(normalised), convention)
+
+
+def _written(values: Sequence[str], normalised: list[str], keys: list[str],
+             convention: Mapping[str, Any]) -> Converted:
+    """Each value's output under a categories convention, from its cleaned text and key."""
+    if convention.get("country_codes"):
+        return _country_codes(values, normalised, keys, convention)
+    spelling = _spelling_table(convention)
+    result = Converted.empty(len(values))
+    result.text = [spelling.get(key, text) for key, text in zip(keys, normalised, strict=True)]
+    kept = np.fromiter(map(str.__eq__, result.text, map(str.strip, values)), dtype=bool,
+                       count=len(values))
+    result.outcome = np.where(kept, Outcome.PASSED, Outcome.CONVERTED).astype(np.int8)
+    return result
+
+
+def _country_codes(values: Sequence[str], normalised: list[str], keys: list[str],
+                   convention: Mapping[str, Any]) -> Converted:
+    result = Converted.empty(len(values))
+    countries = convention.get("countries", {})
+    for i, (raw, text, key) in enumerate(zip(values, normalised, keys, strict=True)):
+        code = countries.get(key) or territory_of(text)
+        if code is None:
+            result.unresolved(i, "not a country name or ISO 3166 code known to CLDR")
+        else:
+            result.set(i, code, Outcome.PASSED if code == raw.strip() else Outcome.CONVERTED)
+    return result
+
+
+def _gentler(convention: Mapping[str, Any]) -> list[tuple[str, dict[str, Any]]]:
+    """Conventions to try, in turn, when ``convention``'s output would read differently."""
+    steps = list(GENTLER)
+    if convention.get("country_codes"):   # first keep the spelling, give up only the codes
+        names = {k: v for k, v in convention.items() if k not in ("country_codes", "countries")}
+        steps.insert(0, ("country names are kept, not written as codes", names))
+    return steps
+
+
+def _output_evidence(column: ColumnEvidence, result: Converted) -> ColumnEvidence:
+    """The column as a second run meets it: the output text of each row, the same rows."""
+    texts = np.asarray(result.text, dtype=object)
+    written = (result.outcome != Outcome.UNRESOLVED) & (texts != "")  # "" reads as missing
+    index, values = pd.factorize(texts[written])
+    new_index = np.full(len(texts) + 1, -1, dtype=np.int64)   # the last slot: rows set aside
+    new_index[:-1][written] = index
+    counts = np.bincount(new_index[:-1][written], weights=column.counts[written],
+                         minlength=len(values)).astype(np.int64)
+    codes = new_index[column.codes] if column.codes is not None else None
+    return ColumnEvidence(column.name, column.index, np.asarray(values, dtype=object), counts,
+                          codes)
 
 
 def _spelling_table(convention: Mapping[str, Any]) -> dict[str, str]:
@@ -260,39 +434,112 @@ def _is_free_text(normalised: list[str], counts: list[int]) -> bool:
             or unique_share >= 0.5 and median_words >= FREE_MEDIAN_WORDS)
 
 
-def _forms_by_key(keys: list[str], normalised: list[str],
-                  counts: list[int]) -> dict[str, Counter[str]]:
+def _multi_forms(keys: list[str], normalised: list[str],
+                 counts: list[int]) -> dict[str, Counter[str]]:
+    """The forms of each key written in more than one way, with their cell counts."""
     forms: dict[str, Counter[str]] = defaultdict(Counter)
+    wanted = _written_apart(keys, normalised)
+    if not wanted:
+        return forms
     for key, text, count in zip(keys, normalised, counts, strict=True):
-        forms[key][text] += count
+        if key in wanted:
+            forms[key][text] += count
     return forms
 
 
+def _written_apart(keys: list[str], texts: list[str]) -> set[str]:
+    """Keys that come with more than one text (a plain loop: far quicker than a frame)."""
+    first: dict[str, str] = {}
+    apart = set()
+    for key, text in zip(keys, texts, strict=True):
+        if first.setdefault(key, text) != text:
+            apart.add(key)
+    return apart
+
+
+def _key_counts(keys: list[str], counts: list[int]) -> dict[str, int]:
+    codes, uniques = pd.factorize(np.asarray(keys, dtype=object))
+    totals = np.bincount(codes, weights=np.asarray(counts, dtype=np.float64),
+                         minlength=len(uniques))
+    return dict(zip(uniques.tolist(), totals.astype(np.int64).tolist(), strict=True))
+
+
 def _prevailing_style(normalised: list[str], counts: list[int]) -> str:
-    styles: Counter[str] = Counter()
-    for text, count in zip(normalised, counts, strict=True):
-        style = case_style(text)
-        if style != "none":
-            styles[style] += count
-    return styles.most_common(1)[0][0] if styles else "none"
+    styles = case_styles(normalised)
+    weights = np.asarray(counts, dtype=np.float64)
+    tally = {style: float(weights[styles == style].sum()) for style in STYLES}
+    tally = {style: total for style, total in tally.items() if total > 0}
+    # most cells; ties to the style met first, as a tally in column order would
+    first = {style: int(np.argmax(styles == style)) for style in tally}
+    return min(tally, key=lambda style: (-tally[style], first[style])) if tally else "none"
+
+
+STYLES = ("upper", "lower", "title", "mixed")
+
+
+def _flag(found: pa.Array) -> np.ndarray:
+    return np.asarray(pc.fill_null(found, False), dtype=bool)
+
+
+# An ASCII value's case style in RE2: a word starts after a break (white space, - ' /)
+_BREAK = r"[\t-\r\x{1c}-\x{20}\-'/]"
+_WORD_CHAR = r"[^\t-\r\x{1c}-\x{20}\-'/]"
+_NOT_LOWER = r"[^\t-\r\x{1c}-\x{20}\-'/a-z]"      # within a word: no lower-case letter
+_WORD_START = rf"(?:^|{_BREAK})"
+_LETTER_WORD = rf"{_WORD_START}[A-Za-z]"
+# a word of four or more characters that breaks title case: a lower-case first letter, or
+# a letter followed by three or more characters, none lower-case, one upper-case
+_UNTITLED = (rf"{_WORD_START}(?:[a-z]{_WORD_CHAR}{{3,}}|[A-Za-z](?:{_NOT_LOWER}{{2,}}[A-Z]"
+             rf"{_NOT_LOWER}*|{_NOT_LOWER}[A-Z]{_NOT_LOWER}+|[A-Z]{_NOT_LOWER}{{2,}}))"
+             rf"(?:{_BREAK}|$)")
+
+
+def case_styles(texts: list[str]) -> np.ndarray:
+    """``case_style`` of each text (in Arrow when there are many)."""
+    if len(texts) < ARROW_FROM:
+        return np.asarray([case_style(t) for t in texts], dtype=object)
+    return case_styles_in_arrow(texts)
+
+
+def case_styles_in_arrow(texts: list[str]) -> np.ndarray:
+    """ASCII texts' styles by regular expressions in Arrow, the others one at a time."""
+    styles = np.full(len(texts), "mixed", dtype=object)
+    text = pa.array(texts, type=pa.large_string())
+    ascii_text = np.asarray(pc.string_is_ascii(text), dtype=bool)
+    for i in np.flatnonzero(~ascii_text).tolist():
+        styles[i] = case_style(texts[i])
+    at = np.flatnonzero(ascii_text)
+    if len(at):
+        plain = text.take(pa.array(at))
+        title = (_flag(pc.match_substring_regex(plain, _LETTER_WORD))
+                 & ~_flag(pc.match_substring_regex(plain, _UNTITLED)))
+        styles[at] = np.select(
+            [~_flag(pc.match_substring_regex(plain, "[A-Za-z]")),
+             _flag(pc.ascii_is_upper(plain)), _flag(pc.ascii_is_lower(plain)), title],
+            ["none", "upper", "lower", "title"], "mixed")
+    return styles
 
 
 def _canonical(form_counts: Counter[str], prevailing: str) -> str:
     """Most frequent form; ties: more diacritics, then the prevailing case style."""
-    return min(form_counts, key=lambda form: (-form_counts[form], -diacritic_count(form),
-                                              case_style(form) != prevailing, form))
+    if len(form_counts) == 1:   # most keys are written one way only
+        return next(iter(form_counts))
+    most = max(form_counts.values())
+    tied = [form for form, count in form_counts.items() if count == most]
+    return min(tied, key=lambda form: (-diacritic_count(form), case_style(form) != prevailing,
+                                       form))
 
 
 def _variant_groups(raw: list[str], keys: list[str], counts: list[int],
                     canonical: Mapping[str, str]) -> list[dict[str, Any]]:
     """Groups whose cells are written in more than one way, most cells rewritten first."""
+    wanted = _written_apart(keys, list(map(str.strip, raw)))
     by_key: dict[str, dict[str, int]] = defaultdict(dict)
     for value, key, count in zip(raw, keys, counts, strict=True):
-        by_key[key][value] = by_key[key].get(value, 0) + count
+        if key in wanted:
+            by_key[key][value] = by_key[key].get(value, 0) + count
     groups = []
     for key, variants in by_key.items():
-        if len({v.strip() for v in variants}) < 2:
-            continue
         target = canonical[key]
         changed = sum(c for v, c in variants.items() if v.strip() != target)
         groups.append({"canonical": target, "cells_changed": changed,
@@ -358,5 +605,5 @@ def _combine(found: list[dict[str, Any]]) -> list[dict[str, Any]]:
 def _confidence(normalised: list[str], counts: list[int]) -> float:
     """Text is the fallback: less sure when the values look like something else."""
     digits = sum(c for v, c in zip(normalised, counts, strict=True)
-                 if sum(ch.isdigit() for ch in v) * 2 > len(v))
+                 if sum(map(str.isdigit, v)) * 2 > len(v))
     return 0.6 if digits * 2 > sum(counts) else 0.97
