@@ -423,3 +423,28 @@ def test_spaced_degree_sign_and_gallons_from_the_file_name(tmp_path) -> None:
         "Store", "temp", "(°C)", "21", "5", "-3", "7"]
     lines = (tmp_path / "out" / "tanks_us.csv").read_text("utf-8").splitlines()
     assert lines[1:] == ["0.0166558118496", "0.128704000656"]  # 4.4 and 34 x 0.003785411784
+
+
+def test_lower_case_k_is_not_kelvin() -> None:
+    # SI Brochure, 9th ed. (2019), Table 2 and §3.1: the kelvin's symbol is K; k is the
+    # prefix kilo, so a bare "k" names no unit and the column is not temperatures
+    from harmonize.pipeline import harmonize_frame
+    out, entry, _ = harmonize_frame(pd.DataFrame({"Reading": ["5 k", "7 k"]}, dtype=object))
+    assert entry["columns"][0]["kind"] != "quantity"
+    assert out["Reading"].tolist() == ["5 k", "7 k"]
+
+
+@pytest.mark.parametrize(("written", "listed"), [
+    # SI Brochure, 9th ed. (2019), §2.3.1: thermodynamic temperature starts at 0 K;
+    # -459.67 °F and -273.15 °C are 0 K (NIST SP 811 B.9)
+    (["-125 K", "3 K", "300 K"], ["-125 K"]),
+    (["-500 °F", "-459.67 °F", "20 °F"], ["-500 °F"]),
+    (["-273.16 °C", "-273.15 °C", "21 °C"], ["-273.16 °C"]),
+])
+def test_temperatures_below_absolute_zero_are_listed(written: list[str],
+                                                     listed: list[str]) -> None:
+    from harmonize.pipeline import harmonize_frame
+    _, entry, _ = harmonize_frame(pd.DataFrame({"Temp": written}, dtype=object))
+    assert entry["columns"][0]["kind"] == "quantity"
+    assert [cell["value"] for cell in entry["unresolved"]] == listed
+    assert all("below absolute zero" in cell["reason"] for cell in entry["unresolved"])

@@ -33,7 +33,13 @@ from harmonize.engines.numbers_forms import (
     to_decimal,
 )
 from harmonize.engines.units_parse import Cells, split_cells
-from harmonize.engines.units_registry import UNITS, linear_map, normalise_token, read_token
+from harmonize.engines.units_registry import (
+    UNITS,
+    factor,
+    linear_map,
+    normalise_token,
+    read_token,
+)
 
 SIGNIFICANT_DIGITS = 15
 MAX_CANDIDATES = 8
@@ -199,8 +205,22 @@ def read_cell(pieces: tuple[tuple[str, str | None], ...], numbers: NumberReading
     if len(pieces) > 1 and convention["dimension"] == "temperature":
         return CellReading(problem="temperatures do not add up in compounds")
     target = convention["target"]
-    return CellReading([(_combo_value(combo, target, digits), combo)
-                        for combo in itertools.product(*options_per_piece)])
+    combos = list(itertools.product(*options_per_piece))
+    possible = [c for c in combos if not _below_absolute_zero(*c[0])]
+    if not possible:
+        return CellReading(problem=BELOW_ZERO)
+    return CellReading([(_combo_value(combo, target, digits), combo) for combo in possible])
+
+
+# SI Brochure, 9th ed. (2019), §2.3.1: thermodynamic temperature starts at 0 K
+BELOW_ZERO = "below absolute zero (0 K): no temperature is that low"
+
+
+def _below_absolute_zero(number: Decimal, unit_id: str) -> bool:
+    if UNITS[unit_id].dimension != "temperature":
+        return False
+    to_kelvin = factor(unit_id)
+    return Fraction(number) * to_kelvin.scale + to_kelvin.offset < 0
 
 
 def _piece_units(token: str | None, convention: Mapping[str, Any]) -> list[str] | str:
@@ -240,7 +260,7 @@ def convert_quantities(values: Sequence[str], convention: Mapping[str, Any],
         if len(pieces) == 1:   # one number, one unit, one reading: most cells
             readings, units = numbers.values.get(pieces[0][0]), memo[pieces[0][1]]
             if readings and len(readings) == 1 and not isinstance(units, str) \
-                    and len(units) == 1:
+                    and len(units) == 1 and not _below_absolute_zero(readings[0], units[0]):
                 result.set(i, plain_in(readings[0], units[0], target, digits))
                 continue
         raw = str(values[i]).strip()

@@ -94,7 +94,9 @@ def _units() -> tuple[UnitDef, ...]:
         # temperature
         u("degC", "degree_Celsius", "temperature", "°C"),
         u("degF", "degree_Fahrenheit", "temperature", "°F"),
-        u("K", "kelvin", "temperature", "K"), u("degR", "degree_Rankine", "temperature", "°R"),
+        # exact case only: a lower-case "k" is kilo (or "thousand"), never kelvin
+        u("K", "kelvin", "temperature", "K", rare=True),
+        u("degR", "degree_Rankine", "temperature", "°R"),
         # speed
         u("m/s", "meter/second", "speed", "m/s"), u("km/h", "kilometer/hour", "speed", "km/h"),
         u("mph", "mile/hour", "speed", "mph"), u("kn", "knot", "speed", "kn"),
