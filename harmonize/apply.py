@@ -17,7 +17,7 @@ import pandas as pd
 
 from harmonize.arrowcsv import CodedColumn, CodedFrame
 from harmonize.context import Context
-from harmonize.decide import each_column
+from harmonize.decide import decide_column, each_column
 from harmonize.engines import engine_named
 from harmonize.engines.base import Converted, Outcome, companions_of
 from harmonize.engines.missing import MissingRule
@@ -231,6 +231,22 @@ class TableResult:
         if self._frame is None:
             self._frame = self.coded_frame().frame()
         return self._frame
+
+
+def decide_and_apply(evidence: TableEvidence, options: Options | None = None, *,
+                     workers: int = 1) -> tuple[TablePlan, TableResult]:
+    """Decide each column and convert it at once (one pass over the columns, each
+    column's readings still warm in the engines' caches)."""
+    context = Context(evidence, options)
+
+    def one(column: ColumnEvidence) -> tuple[ColumnPlan, ColumnResult]:
+        plan = decide_column(column, context)
+        return plan, apply_column(column, plan, context)
+
+    pairs = each_column(one, evidence, context, workers)
+    table_plan = TablePlan(file=evidence.file, sheet=evidence.sheet,
+                           columns=[plan for plan, _ in pairs])
+    return table_plan, TableResult(table_plan, [r for _, r in pairs], evidence.n_rows)
 
 
 def apply_table(evidence: TableEvidence, plan: TablePlan,

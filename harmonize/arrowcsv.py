@@ -51,26 +51,35 @@ class CodedColumn:
         return made
 
 
-def read_coded(body: str, delimiter: str, data: bytes | None = None
-               ) -> list[CodedColumn] | None:
-    """Every record of ``body`` (the header included, as row 0), one CodedColumn per
-    field; None when the text is not a rectangular table Arrow reads the same way.
+@dataclass
+class CodedRead:
+    """A delimited text read by Arrow: the header's fields and each column coded."""
+
+    header: list[str]
+    columns: list[CodedColumn]
+    n_rows: int
+
+
+def read_coded(body: str, delimiter: str, data: bytes | None = None) -> CodedRead | None:
+    """The header record of ``body`` and every later record, one CodedColumn per field;
+    None when the text is not a rectangular table Arrow reads the same way.
     ``data``, when given, is ``body`` encoded as UTF-8 (saves encoding it again)."""
     import pyarrow as pa
     import pyarrow.csv as pacsv
 
-    width = _first_record_width(body, delimiter)
-    if width is None:
+    header = _first_record(body, delimiter)
+    if header is None:
         return None
     if data is None:
         data = body.encode("utf-8")
     if not _plainly_quoted(data, delimiter):
         return None
-    names = [f"f{i}" for i in range(width)]
+    names = [f"f{i}" for i in range(len(header))]
     try:
         table = pacsv.read_csv(
             io.BytesIO(data),
-            read_options=pacsv.ReadOptions(column_names=names, block_size=_BLOCK_BYTES),
+            read_options=pacsv.ReadOptions(column_names=names, skip_rows=1,
+                                           block_size=_BLOCK_BYTES),
             parse_options=pacsv.ParseOptions(delimiter=delimiter, quote_char='"',
                                               double_quote=True, escape_char=False,
                                               newlines_in_values=True,
@@ -81,24 +90,22 @@ def read_coded(body: str, delimiter: str, data: bytes | None = None
         )
     except (pa.ArrowInvalid, pa.ArrowNotImplementedError):
         return None
-    if table.num_rows == 0:
-        return None
-    columns = [table.column(i) for i in range(width)]
+    columns = [table.column(i) for i in range(len(header))]
     with ThreadPoolExecutor(max_workers=2) as pool:  # Arrow's hashing releases the GIL
-        return list(pool.map(_dictionary, columns))
+        return CodedRead(header, list(pool.map(_dictionary, columns)), table.num_rows)
 
 
-def _first_record_width(body: str, delimiter: str) -> int | None:
-    """Fields in the first record (quote-aware); None if it cannot be told cheaply."""
-    head = body[: 1 << 16]
+def _first_record(body: str, delimiter: str) -> list[str] | None:
+    """The header's fields (quote-aware), or None where Arrow's count of rows to skip
+    could differ from a record (a line break inside a quoted header cell)."""
+    end = min((i for i in (body.find("\n"), body.find("\r")) if i >= 0), default=len(body))
+    line = body[:end]
+    if '"' in line and line.count('"') % 2:
+        return None  # a quoted header cell runs on to the next line
     try:
-        first = next(csv.reader(io.StringIO(head, newline=""), delimiter=delimiter,
-                                strict=True), None)
+        return next(csv.reader([line], delimiter=delimiter, strict=True), None)
     except csv.Error:
         return None
-    if first is None or (len(head) == 1 << 16 and "\n" not in head and "\r" not in head):
-        return None
-    return len(first)
 
 
 def _plainly_quoted(data: bytes, delimiter: str) -> bool:
@@ -109,7 +116,9 @@ def _plainly_quoted(data: bytes, delimiter: str) -> bool:
     if b'""' in data:
         return False  # an escaped quote or an empty quoted field: leave it to the general path
     raw = np.frombuffer(data, dtype=np.uint8)
-    quotes = np.flatnonzero(raw == ord('"'))
+    step = 1 << 22  # blocks: no file-sized temporary array to allocate and fault in
+    quotes = np.concatenate([np.flatnonzero(raw[at:at + step] == ord('"')) + at
+                             for at in range(0, len(raw), step)])
     if len(quotes) % 2:
         return False
     opening, closing = quotes[0::2], quotes[1::2]
@@ -191,15 +200,28 @@ def write_csv(frame: pd.DataFrame | CodedFrame, handle: IO[bytes], delimiter: st
     if not table.columns:
         handle.write(b"\n" * table.n_rows)
         return
-    rendered = [_rendered(c.arrow(), delimiter, lone) for c in table.columns]
     sep, end, none = (pa.scalar(s, pa.large_string()) for s in (delimiter, "\n", ""))
-    for start in range(0, table.n_rows, _CHUNK_ROWS):
+
+    def lines(start: int) -> Any:
         stop = min(start + _CHUNK_ROWS, table.n_rows)
         parts = [texts.take(pa.array(column.codes[start:stop]))
                  for texts, column in zip(rendered, table.columns)]
-        lines = pc.binary_join_element_wise(*parts, sep)
-        lines = pc.binary_join_element_wise(lines, end, none)
-        handle.write(_data_bytes(lines))
+        joined = pc.binary_join_element_wise(*parts, sep)
+        return pc.binary_join_element_wise(joined, end, none)
+
+    # Arrow does the work and releases the interpreter lock: two threads render columns,
+    # then join the next block of rows while this one is written
+    with ThreadPoolExecutor(max_workers=2) as pool:
+        rendered = list(pool.map(lambda c: _rendered(c.arrow(), delimiter, lone),
+                                 table.columns))
+        blocks = range(0, table.n_rows, _CHUNK_ROWS)
+        pending = [pool.submit(lines, start) for start in blocks[:2]]
+        for k in range(len(blocks)):
+            block = pending[k].result()
+            if k + 2 < len(blocks):
+                pending.append(pool.submit(lines, blocks[k + 2]))
+            handle.write(_data_bytes(block))
+            pending[k] = None  # its text is written: let it go
 
 
 def _rendered(text: Any, delimiter: str, lone: bool) -> Any:

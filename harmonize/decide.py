@@ -106,5 +106,9 @@ def each_column(work: Callable[[ColumnEvidence], T], table: TableEvidence, conte
     if workers <= 1 or table.n_rows < THREADED_ROWS or len(table.columns) < 2:
         return [work(column) for column in table.columns]
     context.prepare()
+    # the columns with the most distinct values first, so that no thread is left with
+    # the largest one at the end while the other waits
+    order = sorted(range(len(table.columns)), key=lambda i: -len(table.columns[i].values))
     with ThreadPoolExecutor(max_workers=workers) as pool:
-        return list(pool.map(work, table.columns))
+        futures = {i: pool.submit(work, table.columns[i]) for i in order}
+        return [futures[i].result() for i in range(len(table.columns))]

@@ -18,7 +18,7 @@ import numpy as np
 import pandas as pd
 
 from harmonize import report as rpt
-from harmonize.apply import TableResult, apply_table
+from harmonize.apply import TableResult, apply_table, decide_and_apply
 from harmonize.arrowcsv import CodedFrame
 from harmonize.decide import decide_table
 from harmonize.evidence import ColumnEvidence, TableEvidence
@@ -99,17 +99,16 @@ def harmonize_table(table: Table, name: str, options: Options, plan: Plan | None
     if plan is not None:
         table_plan = plan.table_for(name, table.sheet, [c.name for c in evidence.columns])
     if table_plan is None:
-        table_plan = decide_table(evidence, options, workers=workers)
-    result = apply_table(evidence, table_plan, options, workers=workers)
-    if plan is not None:
-        if table_plan in plan.tables:
-            result.drift += contradictions(table_plan, decide_table(evidence, options))
-            for column in result.columns:
-                stuck = column.counts()["unresolved"]
-                if stuck:
-                    column.drift.append(f"{stuck} cells the plan cannot read")
-        else:
+        table_plan, result = decide_and_apply(evidence, options, workers=workers)
+        if plan is not None:
             result.drift.append("no entry of the plan matches this file; decisions were inferred")
+        return table_plan, result
+    result = apply_table(evidence, table_plan, options, workers=workers)
+    result.drift += contradictions(table_plan, decide_table(evidence, options, workers=workers))
+    for column in result.columns:
+        stuck = column.counts()["unresolved"]
+        if stuck:
+            column.drift.append(f"{stuck} cells the plan cannot read")
     return table_plan, result
 
 

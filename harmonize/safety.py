@@ -25,7 +25,7 @@ import signal
 import sys
 import zipfile
 from collections.abc import Callable, Iterable, Mapping, Sequence
-from concurrent.futures import Future, ProcessPoolExecutor
+from concurrent.futures import Future, ProcessPoolExecutor, ThreadPoolExecutor
 from concurrent.futures.process import BrokenProcessPool
 from dataclasses import dataclass, field, fields, replace
 from typing import IO, Any, NoReturn, TypeVar
@@ -283,8 +283,9 @@ def neutralise_coded(table: CodedFrame) -> Neutralised:
     """As ``neutralise_frame``, on each column's distinct texts (one Arrow scan each)."""
     result = Neutralised(table)
     columns = []
-    for name, column in zip(table.names, table.columns):
-        hit = _formula_like(column.values, column.arrow())
+    with ThreadPoolExecutor(max_workers=2) as pool:  # Arrow scans release the GIL
+        hits = list(pool.map(lambda c: _formula_like(c.values, c.arrow()), table.columns))
+    for name, column, hit in zip(table.names, table.columns, hits):
         if hit.any():
             count = int(np.bincount(column.codes, minlength=len(hit))[hit].sum())
             if count:

@@ -43,7 +43,14 @@ from typing import IO, Any
 import numpy as np
 import pandas as pd
 
-from harmonize.arrowcsv import CodedColumn, CodedFrame, drop_unused, read_coded, write_csv
+from harmonize.arrowcsv import (
+    CodedColumn,
+    CodedFrame,
+    CodedRead,
+    drop_unused,
+    read_coded,
+    write_csv,
+)
 from harmonize.safety import LimitError, Limits, check_archive, scan_ods_content
 
 __all__ = [
@@ -568,7 +575,7 @@ def _read_delimited(path: Path, limits: Limits) -> Table:
     notes: list[str] = []
     data = path.read_bytes()
     text, encoding, bom = _decode(data, path, notes)
-    if not text.strip():
+    if not text or text.isspace():  # (no stripped copy of a large text)
         raise SourceError(path, "empty file")
     forced = "\t" if path.suffix.lower() == ".tsv" else None
     delim = forced if forced is not None else _detect_delimiter(text[:_SNIFF_CHARS])
@@ -597,7 +604,7 @@ def _read_delimited(path: Path, limits: Limits) -> Table:
     return Table(path, None, frame, header_row, {}, {}, dialect, False, notes)
 
 
-def _read_coded(body: str, delim: str, data: bytes | None) -> list[CodedColumn] | None:
+def _read_coded(body: str, delim: str, data: bytes | None) -> CodedRead | None:
     """The fast, dictionary-encoded parse of a rectangular table; None otherwise."""
     sep = delim or next((s for s in _NO_SPLIT_SEPARATORS if s not in body), None)
     if sep is None:
@@ -605,27 +612,38 @@ def _read_coded(body: str, delim: str, data: bytes | None) -> list[CodedColumn] 
     return read_coded(body, sep, data)
 
 
-def _coded_table(path: Path, coded: list[CodedColumn], header_row: int, dialect: CsvDialect,
+def _coded_table(path: Path, read: CodedRead, header_row: int, dialect: CsvDialect,
                  limits: Limits, notes: list[str], *, check_sizes: bool) -> Table:
-    """A Table from dictionary-encoded columns (header as row 0), trimmed as the general
-    path trims: trailing empty rows, and trailing columns empty in header and cells."""
+    """A Table from dictionary-encoded columns, trimmed as the general path trims:
+    trailing empty rows, and trailing columns empty in header and cells."""
+    coded = read.columns
     filled = [c.values != "" for c in coded]
-    rows_filled = np.zeros(len(coded[0].codes) - 1, dtype=bool)
-    for column, nonempty in zip(coded, filled):
-        rows_filled |= nonempty[column.codes[1:]]
-    rows = np.flatnonzero(rows_filled)
-    n_rows = int(rows[-1]) + 1 if len(rows) else 0
-    keep_cols = [bool(nonempty[c.codes[1 : n_rows + 1]].any()) or
-                 str(c.values[c.codes[0]]).strip() != "" for c, nonempty in zip(coded, filled)]
+    n_rows = _rows_to_keep(coded, filled, read.n_rows)
+    if n_rows == read.n_rows:  # every value occurs in the rows kept
+        keep_cols = [bool(nonempty.any()) for nonempty in filled]
+    else:
+        keep_cols = [bool(nonempty[c.codes[:n_rows]].any()) for c, nonempty in zip(coded, filled)]
+    keep_cols = [k or h.strip() != "" for k, h in zip(keep_cols, read.header)]
     n_cols = max((i + 1 for i, k in enumerate(keep_cols) if k), default=0)
-    header = [str(c.values[c.codes[0]]) for c in coded[:n_cols]]
-    names = _name_columns(path, None, header, notes)
+    names = _name_columns(path, None, read.header[:n_cols], notes)
     _check_cells(path, None, n_rows, n_cols, limits)
-    columns = [drop_unused(c, slice(1, n_rows + 1)) for c in coded[:n_cols]]
+    columns = [c if n_rows == read.n_rows else drop_unused(c, slice(0, n_rows))
+               for c in coded[:n_cols]]
     if check_sizes:
         _check_coded_sizes(path, names, columns, header_row, limits)
     return CodedTable(path, None, CodedFrame(names, columns, n_rows), header_row, {}, {},
                       dialect, False, notes, coded=columns)
+
+
+def _rows_to_keep(coded: list[CodedColumn], filled: list[np.ndarray], n_rows: int) -> int:
+    """Rows up to the last one with a non-empty cell (trailing empty rows dropped)."""
+    if n_rows == 0 or any(nonempty[c.codes[-1]] for c, nonempty in zip(coded, filled)):
+        return n_rows  # the last row holds something: the usual case, no scan
+    rows_filled = np.zeros(n_rows, dtype=bool)
+    for column, nonempty in zip(coded, filled):
+        rows_filled |= nonempty[column.codes]
+    rows = np.flatnonzero(rows_filled)
+    return int(rows[-1]) + 1 if len(rows) else 0
 
 
 def _check_coded_sizes(path: Path, names: list[str], columns: list[CodedColumn],
