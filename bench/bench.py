@@ -24,14 +24,24 @@ import numpy as np
 import pandas as pd
 
 # Each script prints wall seconds, CPU seconds (user + system, this process: steadier than
-# wall time on a shared machine) and peak memory in KB.
+# wall time on a shared machine) and peak memory in KB: the process's own high-water mark
+# (VmHWM). Not ru_maxrss: Linux carries the forked parent's resident size into a child's
+# ru_maxrss across exec, so a parent that has just generated a big file would inflate it.
+PEAK = """
+def peak_kb():
+    try:
+        with open("/proc/self/status") as status:
+            return next(int(line.split()[1]) for line in status if line.startswith("VmHWM"))
+    except (OSError, StopIteration):
+        return resource.getrusage(resource.RUSAGE_SELF).ru_maxrss
+"""
 FLOOR = """
 import resource, sys, time, pandas as pd
 t = time.perf_counter()
 frame = pd.read_csv(sys.argv[1])
 frame.to_csv(sys.argv[2], index=False)
 r = resource.getrusage(resource.RUSAGE_SELF)
-print(time.perf_counter() - t, r.ru_utime + r.ru_stime, r.ru_maxrss)
+print(time.perf_counter() - t, r.ru_utime + r.ru_stime, peak_kb())
 """
 
 HARMONIZE = """
@@ -41,7 +51,7 @@ t = time.perf_counter()
 chunk = int(sys.argv[3]) if len(sys.argv) > 3 else None
 harmonize.run([sys.argv[1]], sys.argv[2], fmt="csv", chunk_rows=chunk)
 r = resource.getrusage(resource.RUSAGE_SELF)
-print(time.perf_counter() - t, r.ru_utime + r.ru_stime, r.ru_maxrss)
+print(time.perf_counter() - t, r.ru_utime + r.ru_stime, peak_kb())
 """
 
 # Issue #8's column targets: a column decided and converted, with its results mapped
@@ -158,7 +168,7 @@ def make_targets(rows: int, path: Path, seed: int = 11) -> None:
 
 def measure(script: str, src: Path, dest: Path, *extra: str) -> tuple[float, float, float]:
     """(wall seconds, CPU seconds, peak MB) of a script run in a fresh process."""
-    done = subprocess.run([sys.executable, "-c", script, str(src), str(dest), *extra],
+    done = subprocess.run([sys.executable, "-c", PEAK + script, str(src), str(dest), *extra],
                           check=True, capture_output=True, text=True)
     seconds, cpu, rss_kb = done.stdout.split()[-3:]
     return float(seconds), float(cpu), float(rss_kb) / 1024
