@@ -36,21 +36,27 @@ STREAM_ABOVE_BYTES = 256 << 20  # delimited files larger than this stream by def
 
 
 class _Tally:
-    """Distinct values and counts of one column over every chunk (hash joins, no loops)."""
+    """Distinct values and counts of one column over every chunk, in first-seen order as
+    for a whole file (hash lookups, no sorting, no loops over values)."""
 
     def __init__(self) -> None:
-        self.counts = pd.Series(dtype=np.int64)
+        self.values = pd.Index([], dtype=object)
+        self.counts = np.zeros(0, dtype=np.int64)
         self.overflow_rows = 0
 
     def add(self, series: pd.Series) -> None:
         chunk = series.value_counts(sort=False)
-        room = EVIDENCE_CAP - len(self.counts)
-        if len(chunk) > room:
-            new = ~chunk.index.isin(self.counts.index)
-            dropped = np.flatnonzero(new)[max(room, 0):]
-            self.overflow_rows += int(chunk.iloc[dropped].sum())
-            chunk = chunk.drop(chunk.index[dropped])
-        self.counts = self.counts.add(chunk, fill_value=0).astype(np.int64)
+        counts = chunk.to_numpy(dtype=np.int64)
+        where = self.values.get_indexer(chunk.index)
+        seen = where >= 0
+        self.counts[where[seen]] += counts[seen]  # each value once per chunk
+        new = np.flatnonzero(~seen)
+        room = max(EVIDENCE_CAP - len(self.values), 0)
+        self.overflow_rows += int(counts[new[room:]].sum())
+        if room and len(new):
+            kept = new[:room]
+            self.values = self.values.append(chunk.index[kept])
+            self.counts = np.concatenate([self.counts, counts[kept]])
 
 
 def _dialect(path: Path) -> tuple[str, str]:
@@ -101,8 +107,8 @@ def gather(path: Path, name: str, rows: int = CHUNK_ROWS) -> tuple[TableEvidence
 
 
 def _with_tally(first: ColumnEvidence, tally: _Tally) -> ColumnEvidence:
-    values = tally.counts.index.to_numpy(dtype=object)
-    counts = tally.counts.to_numpy(dtype=np.int64)
+    values = tally.values.to_numpy(dtype=object)
+    counts = tally.counts
     position = pd.Index(values).get_indexer(first.values)
     codes = np.where(first.codes >= 0, position[first.codes], -1) if first.codes is not None \
         else None

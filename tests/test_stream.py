@@ -56,3 +56,22 @@ def test_evidence_is_capped(tmp_path: Path, monkeypatch) -> None:
     evidence, total, notes = stream.gather(src, "ids.csv", rows=100)
     assert total == 400 and len(evidence.columns[0].values) == 50
     assert notes["capped_columns"] == ["Ref"]
+
+
+def test_tally_counts_every_cell_in_first_seen_order(monkeypatch) -> None:
+    # reference: collections.Counter over the whole column (insertion order = first seen)
+    from collections import Counter
+    cells = ["b", "a", "b", "c", "a", "d", "e", "b", "f", "e"]
+    tally = stream._Tally()
+    for start in range(0, len(cells), 3):   # chunks of three rows
+        tally.add(pd.Series(cells[start:start + 3], dtype=object))
+    expected = Counter(cells)
+    assert tally.values.tolist() == list(expected)
+    assert tally.counts.tolist() == list(expected.values())
+    monkeypatch.setattr(stream, "EVIDENCE_CAP", 3)
+    capped = stream._Tally()
+    for start in range(0, len(cells), 3):
+        capped.add(pd.Series(cells[start:start + 3], dtype=object))
+    assert capped.values.tolist() == ["b", "a", "c"]
+    assert capped.counts.tolist() == [3, 2, 1]
+    assert capped.overflow_rows == 4   # d, e, f, e
