@@ -147,8 +147,6 @@ def drop_unused(column: CodedColumn, rows: slice) -> CodedColumn:
     used = np.bincount(codes, minlength=len(column.values)) > 0
     if used.all():
         return CodedColumn(column.values, codes, column.longest)
-    if not used[0] and used[1:].all():  # the usual case: only the header's text went
-        return CodedColumn(column.values[1:], codes - 1, column.longest)
     remap = np.cumsum(used) - 1
     return CodedColumn(column.values[used], remap[codes], column.longest)
 

@@ -261,20 +261,31 @@ class Neutralised:
 def neutralise_frame(frame: pd.DataFrame) -> Neutralised:
     """A copy of ``frame`` safe to open in a spreadsheet, and what was changed.
 
-    Works on each column's distinct values; columns without a trigger are not copied.
+    Works on each column's distinct values; columns without a trigger are not copied;
+    missing cells stay as given.
     """
+    import pyarrow as pa
     out = frame.copy(deep=False)
     result = Neutralised(out)
     for position in range(frame.shape[1]):
         column = frame.iloc[:, position]
-        changed, count = _neutralise_column(column)
-        if count:
-            out.isetitem(position, changed)
-            result.cells[str(frame.columns[position])] = count
-    labels = [str(c) for c in frame.columns]
-    safe = [neutralise_cell(label) for label in labels]
-    if safe != labels:
-        result.headers = [label for label, new in zip(labels, safe) if new != label]
+        codes, uniques = pd.factorize(column, use_na_sentinel=True)
+        texts = np.array([v if isinstance(v, str) else "" for v in uniques.tolist()],
+                         dtype=object)
+        hit = _formula_like(texts, pa.array(texts, type=pa.large_string()))
+        if not hit.any():
+            continue
+        fixed = np.asarray(uniques, dtype=object).copy()
+        fixed[hit] = ["'" + t for t in texts[hit].tolist()]
+        values = column.to_numpy(dtype=object).copy()
+        present = codes >= 0
+        values[present] = fixed[codes[present]]
+        out.isetitem(position, pd.Series(values, index=column.index, dtype=object,
+                                         name=column.name))
+        result.cells[str(frame.columns[position])] = int(np.isin(codes,
+                                                                 np.flatnonzero(hit)).sum())
+    safe, result.headers = _safe_headers([str(c) for c in frame.columns])
+    if result.headers:
         out.columns = pd.Index(safe, dtype=object)
     return result
 
@@ -294,10 +305,15 @@ def neutralise_coded(table: CodedFrame) -> Neutralised:
             fixed[hit] = ["'" + t for t in fixed[hit].tolist()]
             column = CodedColumn(fixed, column.codes)
         columns.append(column)
-    safe = [neutralise_cell(name) for name in table.names]
-    result.headers = [name for name, new in zip(table.names, safe) if new != name]
+    safe, result.headers = _safe_headers(table.names)
     result.frame = CodedFrame(safe, columns, table.n_rows)
     return result
+
+
+def _safe_headers(names: list[str]) -> tuple[list[str], list[str]]:
+    """(every header made safe, the headers that changed)."""
+    safe = [neutralise_cell(name) for name in names]
+    return safe, [name for name, new in zip(names, safe) if new != name]
 
 
 def _formula_like(texts: np.ndarray, arrow: Any) -> np.ndarray:
@@ -316,38 +332,6 @@ def _formula_like(texts: np.ndarray, arrow: Any) -> np.ndarray:
 
 
 _ASCII_PLAIN_NUMBER = r"^[+-]?(?:[0-9]+(?:\.[0-9]*)?|\.[0-9]+)(?:[eE][+-]?[0-9]+)?$"
-
-
-def _has_trigger(column: pd.Series) -> bool:
-    """Whether any cell starts with a formula trigger: one Arrow scan, no Python loop."""
-    import pyarrow as pa
-    import pyarrow.compute as pc
-    try:
-        text = pa.array(column.to_numpy(dtype=object), type=pa.string(), from_pandas=True)
-    except (pa.ArrowInvalid, pa.ArrowTypeError):
-        return True  # not all text: take the careful path
-    return bool(pc.any(pc.match_substring_regex(text, r"^[=+\-@\t\r]")).as_py())
-
-
-def _neutralise_column(column: pd.Series) -> tuple[pd.Series, int]:
-    if not _has_trigger(column):
-        return column, 0
-    codes, uniques = pd.factorize(column, use_na_sentinel=True)
-    texts = np.asarray(uniques, dtype=object)
-    if not len(texts):
-        return column, 0
-    strings = pd.Series(texts, dtype=object).map(lambda v: v if isinstance(v, str) else "")
-    hit = strings.str.startswith(FORMULA_TRIGGERS) & ~strings.str.fullmatch(_PLAIN_NUMBER)
-    hit = hit.to_numpy(dtype=bool)
-    if not hit.any():
-        return column, 0
-    fixed = texts.copy()
-    fixed[hit] = ["'" + t for t in strings[hit]]
-    values = column.to_numpy(dtype=object).copy()  # missing cells stay as given
-    present = codes >= 0
-    values[present] = fixed[codes[present]]
-    count = int(np.isin(codes, np.flatnonzero(hit)).sum())
-    return pd.Series(values, index=column.index, dtype=object, name=column.name), count
 
 
 # --------------------------------------------------------------------------

@@ -561,7 +561,8 @@ def test_known_second_run_changes_stay_fixed(values: list[str], country: str | N
     "sentinels are decided in missing.py before the numbers engine reads the column; a "
     "cell it leaves undecided ('-7,088': a decimal or a group mark?) is empty on the "
     "second run, and without that negative value '-999' reads as a sentinel. Needs the "
-    "numbers engine to decide sentinels on its own readings, as the dates engine does."))
+    "first run's sentinel decision to leave out the cells that will stay undecided "
+    "(sentinels decided by the numbers engine among its own decidable readings)."))
 def test_an_undecided_cell_does_not_change_what_is_a_sentinel() -> None:
     harmonised_again(pd.DataFrame({"Amount": ["USD 297", "USD 79", "USD 375", "USD 40",
                                               "USD -7,088", "USD 28", "USD -999"]}))
