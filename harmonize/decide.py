@@ -9,6 +9,7 @@ from typing import TypeVar
 
 import numpy as np
 
+from harmonize.column_apply import ColumnResult, apply_column, undecided_values
 from harmonize.context import Context
 from harmonize.engines import ENGINES, FALLBACK
 from harmonize.engines.base import Decision
@@ -75,7 +76,40 @@ def empty_plan(name: str, rule: MissingRule) -> ColumnPlan:
 
 
 def decide_column(column: ColumnEvidence, context: Context) -> ColumnPlan:
+    return settled_column(column, context)[0]
+
+
+SETTLE_ROUNDS = 3   # a column whose sentinels still change after this keeps the last plan
+
+
+def settled_column(column: ColumnEvidence, context: Context
+                   ) -> tuple[ColumnPlan, ColumnResult | None]:
+    """A column's plan, with the column converted under it when deciding needed that.
+
+    Sentinels are weighed against the values the engine can decide, not against cells it
+    lists as undecided: those are written empty, and a sentinel rule that counted them
+    ("-7,088" beside "-999": a group or a decimal mark?) would see a different column
+    when the output is read again, and set a value aside there that it kept here."""
     rule, missing = missing_with_mask(column, context.options)
+    plan = _plan_for(column, rule, missing, context)
+    result = None
+    for _ in range(SETTLE_ROUNDS):
+        if not rule.sentinel_candidates or plan.kind == "empty":
+            break
+        result = apply_column(column, plan, context)
+        undecided = undecided_values(column, plan, result)
+        if not undecided.any():
+            break
+        settled, missing = missing_with_mask(column, context.options, leave_out=undecided)
+        if settled.tokens == rule.tokens:
+            break
+        rule, result = settled, None
+        plan = _plan_for(column, rule, missing, context)
+    return plan, result
+
+
+def _plan_for(column: ColumnEvidence, rule: MissingRule, missing: np.ndarray,
+              context: Context) -> ColumnPlan:
     present = column.subset(~missing) if missing.any() else column  # nothing to set aside
     if present.total == 0:
         return empty_plan(column.name, rule)

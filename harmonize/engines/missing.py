@@ -135,6 +135,9 @@ class MissingRule:
 
     tokens: frozenset[str]
     reasons: dict[str, str] = field(default_factory=dict, compare=False)
+    # whether some value looked like a sentinel, so that leaving cells out of the
+    # comparison (``missing_with_mask``'s ``leave_out``) could change the rule
+    sentinel_candidates: bool = field(default=False, compare=False)
 
     def mask(self, values: np.ndarray) -> np.ndarray:
         """True for each distinct raw value that is missing under this rule."""
@@ -151,7 +154,15 @@ def _words(options: Options) -> frozenset[str]:
 
 
 def _sentinels(folded: pd.Series, counts: np.ndarray, min_share: float,
-               text: pa.Array | None = None) -> set[str]:
+               text: pa.Array | None = None, leave_out: np.ndarray | None = None
+               ) -> set[str]:
+    """The sentinels ``_sentinel_search`` finds."""
+    return _sentinel_search(folded, counts, min_share, text, leave_out)[0]
+
+
+def _sentinel_search(folded: pd.Series, counts: np.ndarray, min_share: float,
+                     text: pa.Array | None = None, leave_out: np.ndarray | None = None
+                     ) -> tuple[set[str], bool]:
     """Sentinel numbers (99, -999, 9.999,00 ...) among a column's folded values.
 
     The column must be as numeric as an engine needs it to be to claim it (``min_share``),
@@ -162,7 +173,9 @@ def _sentinels(folded: pd.Series, counts: np.ndarray, min_share: float,
     A number's size is its whole part; one mark before exactly three digits ("1.234") is
     read as a group mark, so that an amount and its plain rewriting have the same size.
     Every test is a regular expression run in Arrow (on ``text``, the same values as Arrow
-    text, when given): no value is parsed one at a time.
+    text, when given): no value is parsed one at a time. Values flagged in ``leave_out``
+    (other than the candidates themselves) are neither compared with nor counted.
+    Returns the sentinels and whether any value was a candidate.
     """
     if text is None:
         text = pa.array(folded, type=pa.large_string())
@@ -171,11 +184,13 @@ def _sentinels(folded: pd.Series, counts: np.ndarray, min_share: float,
         maybe = np.flatnonzero(nines)
         nines[maybe] = _flags(pc.match_substring_regex(text.take(maybe), _NINES))
     if not nines.any():
-        return set()
-    numeric = _flags(pc.match_substring_regex(text, _NUMBER))
+        return set(), False
+    counted = np.ones(len(nines), dtype=bool) if leave_out is None else ~leave_out | nines
+    numeric = _flags(pc.match_substring_regex(text, _NUMBER)) & counted
     others = numeric & ~nines
-    if counts[numeric].sum() < min_share * max(counts.sum(), 1) or others.sum() < 5:
-        return set()
+    if (counts[numeric].sum() < min_share * max(counts[counted].sum(), 1)
+            or others.sum() < 5):
+        return set(), True
     other_text = text.filter(pa.array(others))
     tokens = set(folded[nines].tolist())
     found = {t for t in tokens if re.match(_NEGATIVE, t)}
@@ -184,7 +199,7 @@ def _sentinels(folded: pd.Series, counts: np.ndarray, min_share: float,
     for nines_written in sorted({t.count("9") for t in tokens - found}):
         if not _reaches(other_text, nines_written):
             found |= {t for t in tokens if t.count("9") == nines_written}
-    return found
+    return found, True
 
 
 def _any_negative(numbers: pa.Array) -> bool:
@@ -243,10 +258,13 @@ def find_missing(column: ColumnEvidence, options: Options | None = None) -> Miss
     return missing_with_mask(column, options)[0]
 
 
-def missing_with_mask(column: ColumnEvidence, options: Options | None = None
-                      ) -> tuple[MissingRule, np.ndarray]:
+def missing_with_mask(column: ColumnEvidence, options: Options | None = None,
+                      leave_out: np.ndarray | None = None) -> tuple[MissingRule, np.ndarray]:
     """``find_missing`` and its ``mask`` of the column's values (folded once for both).
 
+    ``leave_out`` flags values the sentinel rule must not compare with: cells the column's
+    engine cannot decide, which an output holds empty, so that the rule sees what it
+    will see when the output is read again.
     Each test runs in Arrow on the whole column; Python sees only the few values a test
     picks out (words, e-mail addresses, strings of zeros, sentinel numbers)."""
     options = options or Options()
@@ -265,9 +283,12 @@ def missing_with_mask(column: ColumnEvidence, options: Options | None = None
     everything = rest.all()
     others = folded if everything else folded[rest]
     others_text = text if everything else text.filter(pa.array(rest))
-    for token in _sentinels(others, column.counts[rest], options.min_fit, others_text):
+    left_out = None if leave_out is None else leave_out[rest]
+    sentinels, candidates = _sentinel_search(others, column.counts[rest], options.min_fit,
+                                             others_text, left_out)
+    for token in sentinels:
         reasons[token] = "sentinel number far outside the column's other values"
-    rule = MissingRule(frozenset(reasons), reasons)
+    rule = MissingRule(frozenset(reasons), reasons, sentinel_candidates=candidates)
     return rule, rule.mask_folded(folded)
 
 
