@@ -116,10 +116,21 @@ def _run_partition(part: pd.DataFrame, index: int, plan: TablePlan, options: Opt
             "unresolved": {c.plan.name: c.unresolved for c in result.columns if c.unresolved}}
 
 
+def _trimmed_end(part: pd.DataFrame, note_lines: int, last: int,
+                 partition_info: dict[str, Any] | None = None) -> pd.DataFrame:
+    """The last partition less the note lines and empty rows that end the file."""
+    from harmonize.stream import trim_tail
+    if partition_info is None or partition_info["number"] != last:
+        return part
+    return trim_tail(part, note_lines)
+
+
 def harmonize_csv_dask(path: str, name: str, dest: Any, options: Options | None,
-                       plan: TablePlan | None = None, **read_options: Any) -> dict[str, Any]:
+                       plan: TablePlan | None = None, note_lines: int = 0,
+                       **read_options: Any) -> dict[str, Any]:
     """A delimited file through Dask: decide over all partitions, convert each partition
-    in parallel, write one output (atomically) and return what the report needs."""
+    in parallel, write one output (atomically) and return what the report needs.
+    ``note_lines`` rows at the end of the file are notes, not data."""
     import shutil
     import tempfile
 
@@ -128,7 +139,8 @@ def harmonize_csv_dask(path: str, name: str, dest: Any, options: Options | None,
 
     from harmonize.sources import _atomic_write
     ddf = dd.read_csv(path, dtype=str, keep_default_na=False, na_filter=False,
-                      **read_options)
+                      skip_blank_lines=False, **read_options)
+    ddf = ddf.map_partitions(_trimmed_end, note_lines, ddf.npartitions - 1, meta=ddf._meta)
     table_plan = plan or decide_dask(ddf, options, name)
     near = dest.parent if dest is not None else None  # same disk: the rename stays cheap
     with tempfile.TemporaryDirectory(prefix=".harmonize-parts-", dir=near) as folder:

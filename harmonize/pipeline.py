@@ -21,6 +21,7 @@ from harmonize import report as rpt
 from harmonize.apply import TableResult, apply_table, decide_and_apply
 from harmonize.arrowcsv import CodedFrame
 from harmonize.decide import decide_table
+from harmonize.delimited import set_aside_notes
 from harmonize.evidence import ColumnEvidence, TableEvidence
 from harmonize.options import Options
 from harmonize.plan import Plan, TablePlan
@@ -170,14 +171,15 @@ def _process_stream(path: Path, rel: Path, out_dir: Path | None, options: Option
         dest.parent.mkdir(parents=True, exist_ok=True)
     if dask:
         from harmonize.distributed import harmonize_csv_dask
-        from harmonize.sources import sniff_csv
-        with path.open("rb") as handle:
-            head = handle.read(1 << 16)
-        dialect = sniff_csv(head[: max(head.rfind(b"\n"), 1)])
+        from harmonize.stream import layout
+        shape = layout(path)
         table_plan = plan.table_for(str(rel), None, []) if plan is not None else None
         found = harmonize_csv_dask(str(path), str(rel), dest, options, table_plan,
-                                   sep=dialect.delimiter or "\x1f", encoding=dialect.encoding)
-        notes = {"dask": True, "partitions": found["partitions"]}
+                                   note_lines=len(shape.below), sep=shape.delimiter,
+                                   encoding=shape.encoding, skiprows=shape.skip_lines)
+        notes = {"dask": True, "partitions": found["partitions"],
+                 "header_row": shape.skip_lines + 1,
+                 "warnings": set_aside_notes(shape.above, shape.below)}
     else:
         on_chunk = (lambda done: on_rows(str(rel), done)) if on_rows else None
         result = harmonize_stream(path, str(rel), dest, options, plan,
@@ -186,15 +188,19 @@ def _process_stream(path: Path, rel: Path, out_dir: Path | None, options: Option
                  "counts": result.counts, "missing": result.missing,
                  "unresolved": result.unresolved}
         notes = result.notes
+    header_row = notes.pop("header_row")
+    warnings = notes.pop("warnings")
     entry, _ = rpt.table_entry(found["sample"], input_name=str(rel), sheet=None,
-                               output=str(rel_out) if out_dir else None)
+                               output=str(rel_out) if out_dir else None,
+                               header_row=header_row, warnings=warnings)
     entry["rows"] = found["rows"]
     entry["streamed"] = notes
     for column in entry["columns"]:
         column["counts"] = found["counts"].get(column["name"], column["counts"])
         column["missing"] = found["missing"].get(column["name"], {})
     outcome.entries.append(entry)
-    outcome.unresolved += [rpt.unresolved_entry(cell, file=str(rel), sheet=None, column=name)
+    outcome.unresolved += [rpt.unresolved_entry(cell, file=str(rel), sheet=None, column=name,
+                                                header_row=header_row)
                            for name, cells in found["unresolved"].items() for cell in cells]
     outcome.plans.append(found["plan"])
     outcome.outputs.append(str(rel_out))

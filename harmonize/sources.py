@@ -28,7 +28,6 @@ import dataclasses
 import datetime as dt
 import decimal
 import io
-import itertools
 import os
 import re
 import tempfile
@@ -51,6 +50,17 @@ from harmonize.arrowcsv import (
     read_coded,
     write_csv,
 )
+from harmonize.delimited import LINE_BREAK as _LINE_BREAK
+from harmonize.delimited import (
+    MAX_TITLE_LINES,
+    ROWS_BELOW_HEADER,
+    header_index,
+    note_lines_below,
+    set_aside_notes,
+    table_start,
+)
+from harmonize.delimited import SNIFF_CHARS as _SNIFF_CHARS
+from harmonize.delimited import shown_line as _shown
 from harmonize.safety import LimitError, Limits, check_archive, scan_ods_content
 
 __all__ = [
@@ -72,14 +82,9 @@ SUPPORTED_SUFFIXES: frozenset[str] = frozenset(
 )
 _DELIMITED = frozenset({".csv", ".tsv", ".txt"})
 _WORKBOOKS = frozenset({".xlsx", ".xlsm"})
-_CANDIDATE_DELIMITERS = (",", ";", "\t", "|")
 # Separators for parsing a one-column file: control characters that text data
 # practically never holds (the first one absent from the text is used).
 _NO_SPLIT_SEPARATORS = ("\x1f", "\x1e", "\x1d", "\x1c")
-_SNIFF_CHARS = 65_536
-# A line made only of these (",,," or ";;") above the header is an empty row.
-_BLANKISH = " \t" + "".join(_CANDIDATE_DELIMITERS)
-_SNIFF_RECORDS = 200
 _ENCODING_CANDIDATES = ["cp1252", "cp1250", "cp1251", "latin_1", "shift_jis", "gb18030"]
 _OLE_MAGIC = b"\xd0\xcf\x11\xe0\xa1\xb1\x1a\xe1"
 _XLSX_MAX_ROWS = 1_048_576
@@ -132,6 +137,8 @@ class CsvDialect:
     encoding: str  # Python codec name actually used
     delimiter: str  # "" for a one-column file
     bom: bool
+    skip_lines: int = 0  # lines above the header: blank ones and titles set aside
+    set_aside: tuple[str, ...] = ()  # the title lines among them
 
 
 @dataclass
@@ -325,10 +332,13 @@ def _check_cell_sizes(
 # Delimited text: encoding
 
 
-def sniff_csv(raw: bytes) -> CsvDialect:
-    """Encoding, BOM and delimiter of delimited text given as bytes."""
+def sniff_csv(raw: bytes, forced: str | None = None) -> CsvDialect:
+    """Encoding, BOM, delimiter and title lines of delimited text given as bytes (the
+    start of a file; ``forced`` is the delimiter its name implies)."""
     text, encoding, bom = _decode(raw, "<data>")
-    return CsvDialect(encoding, _detect_delimiter(text[:_SNIFF_CHARS]), bom)
+    start = table_start(text[:_SNIFF_CHARS], forced)
+    return CsvDialect(encoding, start.delimiter, bom,
+                      len(_LINE_BREAK.findall(text, 0, start.offset)), tuple(start.above))
 
 
 _BOMS = (  # UTF-32 first: its LE BOM starts with the UTF-16 LE BOM
@@ -507,66 +517,6 @@ def _mostly_control(text: str) -> bool:
 # Delimited text: delimiter
 
 
-def _detect_delimiter(sample: str) -> str:
-    """The delimiter that splits the sample's records most consistently.
-
-    The header (first non-blank record) fixes the column count, so a candidate
-    must give it more than one field; data records are scored on how many
-    match that count, minus how many overflow it. csv.Sniffer breaks ties.
-    """
-    scores: dict[str, float] = {}
-    for delim in _CANDIDATE_DELIMITERS:
-        counts = _sample_field_counts(sample, delim)
-        if not counts or counts[0] <= 1:
-            continue
-        header, data = counts[0], counts[1:]
-        exact = sum(c == header for c in data) / len(data) if data else 1.0
-        over = sum(c > header for c in data) / len(data) if data else 0.0
-        if exact >= 0.5:
-            scores[delim] = exact - over
-    if not scores:
-        return _ragged_delimiter(sample)
-    top = max(scores.values())
-    tied = [d for d in _CANDIDATE_DELIMITERS if scores.get(d) == top]
-    return tied[0] if len(tied) == 1 else _sniffer_pick(sample, tied)
-
-
-def _ragged_delimiter(sample: str) -> str:
-    """The delimiter of a file whose rows rarely match the header's field count.
-
-    Rows that are ragged still split on their delimiter: a candidate that splits the
-    header and most data records is the delimiter, and the parser then pads short rows
-    or names the first row with too many fields, instead of reading one column.
-    """
-    best, best_share = "", 0.5
-    for delim in _CANDIDATE_DELIMITERS:
-        counts = _sample_field_counts(sample, delim)
-        if len(counts) < 2 or counts[0] <= 1:
-            continue
-        share = sum(c > 1 for c in counts[1:]) / (len(counts) - 1)
-        if share > best_share:
-            best, best_share = delim, share
-    return best
-
-
-def _sample_field_counts(sample: str, delim: str) -> list[int]:
-    reader = csv.reader(
-        io.StringIO(sample, newline=""), delimiter=delim, quotechar='"', strict=False
-    )
-    records = list(itertools.islice(reader, _SNIFF_RECORDS + 1))
-    if len(sample) >= _SNIFF_CHARS and records:
-        records.pop()  # the cut may have split the last record
-    return [len(r) for r in records if any(f.strip(_BLANKISH) for f in r)]
-
-
-def _sniffer_pick(sample: str, tied: list[str]) -> str:
-    try:
-        guess = csv.Sniffer().sniff(sample, delimiters="".join(tied)).delimiter
-    except csv.Error:
-        guess = ""
-    return guess if guess in tied else tied[0]
-
-
 # --------------------------------------------------------------------------
 # Delimited text: parsing
 
@@ -578,16 +528,18 @@ def _read_delimited(path: Path, limits: Limits) -> Table:
     if not text or text.isspace():  # (no stripped copy of a large text)
         raise SourceError(path, "empty file")
     forced = "\t" if path.suffix.lower() == ".tsv" else None
-    delim = forced if forced is not None else _detect_delimiter(text[:_SNIFF_CHARS])
-    lead = _leading_blank_lines(text)
-    body = text[lead:]
-    header_row = len(_LINE_BREAK.findall(text, 0, lead)) + 1
+    start = table_start(text, forced)
+    delim = start.delimiter
+    end, below = note_lines_below(text, delim)
+    body = text[start.offset:end]
+    header_row = len(_LINE_BREAK.findall(text, 0, start.offset)) + 1
     _precheck_size(path, body, delim, limits)
-    dialect = CsvDialect(encoding, delim, bom)
-    # the file's own bytes when they are the body's UTF-8 (lines above the header are
-    # ASCII, so characters and bytes count alike)
+    dialect = CsvDialect(encoding, delim, bom, header_row - 1)
+    # the file's own bytes when they are the body's UTF-8
     utf8 = encoding in ("utf-8", "utf-8-sig") and not notes
-    coded = _read_coded(body, delim, data[(3 if bom else 0) + lead:] if utf8 else None)
+    notes += set_aside_notes(start.above, below)
+    coded = _read_coded(body, delim, _body_bytes(data, text, bom, start.offset, end)
+                        if utf8 else None)
     if coded is not None:
         return _coded_table(path, coded, header_row, dialect, limits, notes,
                             check_sizes=len(text) > limits.max_cell_chars)
@@ -602,6 +554,13 @@ def _read_delimited(path: Path, limits: Limits) -> Table:
     if len(text) > limits.max_cell_chars:  # otherwise no cell can be that long
         _check_cell_sizes(path, None, frame, header_row, limits)
     return Table(path, None, frame, header_row, {}, {}, dialect, False, notes)
+
+
+def _body_bytes(data: bytes, text: str, bom: bool, start: int, end: int) -> bytes:
+    """The bytes of ``text[start:end]`` within ``data``, the file's UTF-8 (lines above
+    and below the table are short, so only they are encoded again)."""
+    first = (3 if bom else 0) + len(text[:start].encode("utf-8"))
+    return data[first:len(data) - len(text[end:].encode("utf-8"))]
 
 
 def _read_coded(body: str, delim: str, data: bytes | None) -> CodedRead | None:
@@ -681,16 +640,6 @@ def _precheck_size(path: Path, body: str, delim: str, limits: Limits) -> None:
         rows += body.count("\r") - body.count("\r\n")
     if rows * columns > limits.max_cells:
         _check_cells(path, None, len(_csv_field_counts(body, delim)), columns, limits)
-
-
-_LINE_BREAK = re.compile(r"\r\n|\r|\n")
-
-
-def _leading_blank_lines(text: str) -> int:
-    """Length of the lines above the header that hold only spaces or delimiters (",,,")."""
-    chars = re.escape(_BLANKISH)
-    match = re.match(rf"(?:[{chars}]*(?:\r\n|\r|\n))*", text)
-    return match.end() if match else 0
 
 
 def _parse_body(path: Path, body: str, delim: str, header_row: int) -> pd.DataFrame:
@@ -895,7 +844,10 @@ def _duration_text(value: dt.timedelta) -> str:
 
 
 class _SheetBuilder:
-    """Collects one sheet's converted rows, per-column type tags and formats."""
+    """Collects one sheet's converted rows, per-column type tags and formats.
+
+    The first rows wait until the header is known: title rows above it (one cell each,
+    ``delimited.header_index``) are set aside, not read as data."""
 
     def __init__(self) -> None:
         self.header: list[str] | None = None
@@ -905,26 +857,52 @@ class _SheetBuilder:
         self.formats: dict[int, collections.Counter[str]] = collections.defaultdict(
             collections.Counter
         )
+        self.waiting: list[tuple[int, list[tuple[Any, str | None]]]] = []
+        self.titles: list[str] = []
 
     def add(self, row_number: int, cells: Iterable[tuple[Any, str | None]]) -> None:
+        if self.header is not None:
+            self._add_data(list(cells))
+            return
+        self.waiting.append((row_number, list(cells)))
+        if len(self.waiting) >= MAX_TITLE_LINES + ROWS_BELOW_HEADER:
+            self._settle()
+
+    def _settle(self) -> None:
+        """Find the header among the rows waiting, then take the rows below it."""
+        waiting, self.waiting = self.waiting, []
+        texts = [[_cell_text(value, fmt)[0] for value, fmt in cells] for _, cells in waiting]
+        filled = [sum(1 for t in row if t.strip()) for row in texts]
+        found = header_index(filled, lone_title=True)
+        first = found if found is not None else next(
+            (i for i, n in enumerate(filled) if n), None)
+        if first is None:
+            return
+        self.titles = [" ".join(t.strip() for t in row if t.strip())
+                       for row, n in zip(texts[:first], filled) if n]
+        self.header, self.header_row = texts[first], waiting[first][0]
+        for _, cells in waiting[first + 1:]:
+            self._add_data(cells)
+
+    def _add_data(self, cells: list[tuple[Any, str | None]]) -> None:
         texts: list[str] = []
         for col, (value, number_format) in enumerate(cells):
             text, tag = _cell_text(value, number_format)
             texts.append(text)
-            if self.header is None or value is None:
+            if value is None:
                 continue
             if tag is not None:
                 self.typed[col][text] = tag
             if number_format:
                 self.formats[col][number_format] += 1
-        if self.header is not None:
-            self.rows.append(texts)
-        elif any(t.strip() for t in texts):
-            self.header, self.header_row = texts, row_number
+        self.rows.append(texts)
 
     def table(
         self, path: Path, sheet: str, date1904: bool, notes: list[str], with_formats: bool
     ) -> Table:
+        if self.header is None:
+            self._settle()
+        notes += set_aside_notes([_shown(t) for t in self.titles], [])
         if self.header is None:
             notes.append(f"sheet '{sheet}' is empty")
             frame = pd.DataFrame(

@@ -22,6 +22,7 @@ import pandas as pd
 from harmonize.apply import TableResult, apply_table
 from harmonize.arrowcsv import write_csv
 from harmonize.decide import decide_table
+from harmonize.delimited import note_lines_below, set_aside_notes
 from harmonize.engines.base import Outcome
 from harmonize.evidence import ColumnEvidence, TableEvidence
 from harmonize.options import Options
@@ -59,32 +60,72 @@ class _Tally:
             self.counts = np.concatenate([self.counts, counts[kept]])
 
 
-def _dialect(path: Path) -> tuple[str, str]:
+@dataclass(frozen=True)
+class Layout:
+    """How a delimited file is laid out: what the whole-file reader finds, so that a
+    streamed file gives the same table (title lines above, note lines below set aside)."""
+
+    encoding: str
+    delimiter: str
+    skip_lines: int = 0    # lines above the header
+    above: tuple[str, ...] = ()   # title lines among them
+    below: tuple[str, ...] = ()   # note lines below the data (each one record)
+
+
+def layout(path: Path) -> Layout:
     with path.open("rb") as handle:
         head = handle.read(SNIFF_BYTES)
+        handle.seek(max(0, path.stat().st_size - SNIFF_BYTES))
+        tail = handle.read()
     cut = max(head.rfind(b"\n"), 0) if len(head) == SNIFF_BYTES else len(head)
-    dialect = sniff_csv(head[:cut] or head)  # whole lines, so no character is cut in two
-    if path.suffix.lower() == ".tsv":
-        return dialect.encoding, "\t"
+    forced = "\t" if path.suffix.lower() == ".tsv" else None
+    dialect = sniff_csv(head[:cut] or head, forced)  # whole lines: no character cut in two
     # a one-column file: split on a control character that text does not hold
-    return dialect.encoding, dialect.delimiter or "\x1f"
+    delimiter = dialect.delimiter or "\x1f"
+    ending = tail.decode(dialect.encoding.replace("-sig", ""), errors="replace")
+    notes = note_lines_below(ending, dialect.delimiter)[1]
+    return Layout(dialect.encoding, delimiter, dialect.skip_lines, dialect.set_aside,
+                  tuple(notes))
 
 
 def chunks(path: Path, rows: int = CHUNK_ROWS) -> Iterator[pd.DataFrame]:
     """The file's rows as text frames of at most ``rows`` rows, header names checked."""
-    encoding, delimiter = _dialect(path)
+    shape = layout(path)
     names: list[str] | None = None
     try:
-        reader = pd.read_csv(path, sep=delimiter, encoding=encoding, dtype=object,
+        reader = pd.read_csv(path, sep=shape.delimiter, encoding=shape.encoding, dtype=object,
                              keep_default_na=False, na_filter=False, chunksize=rows,
-                             quotechar='"', doublequote=True, engine="c", header=0)
-        for frame in reader:
+                             quotechar='"', doublequote=True, engine="c", header=0,
+                             skiprows=shape.skip_lines, skip_blank_lines=False)
+        for frame in _without_last(reader, len(shape.below)):
             if names is None:
                 names = _name_columns(path, None, [str(c) for c in frame.columns], [])
             frame.columns = pd.Index(names, dtype=object)
             yield frame
     except (pd.errors.ParserError, UnicodeDecodeError) as exc:
         raise SourceError(path, f"cannot read while streaming: {exc}") from None
+
+
+def _without_last(frames: Iterator[pd.DataFrame], n: int) -> Iterator[pd.DataFrame]:
+    """The frames, the last one trimmed by ``trim_tail`` (one frame is held back to
+    know which is last)."""
+    held: pd.DataFrame | None = None
+    for frame in frames:
+        if held is not None:
+            yield held
+        held = frame
+    if held is not None:
+        held = trim_tail(held, n)
+        if len(held):
+            yield held
+
+
+def trim_tail(frame: pd.DataFrame, note_lines: int) -> pd.DataFrame:
+    """A file's last rows less its ``note_lines`` note lines and the empty rows that end
+    it, as the whole-file reader trims them (blank lines within stay as empty rows)."""
+    frame = frame.iloc[:max(len(frame) - note_lines, 0)]
+    filled = np.flatnonzero(frame.fillna("").ne("").any(axis=1).to_numpy())
+    return frame.iloc[:filled[-1] + 1 if len(filled) else 0]
 
 
 def gather(path: Path, name: str, rows: int = CHUNK_ROWS) -> tuple[TableEvidence, int, dict]:
@@ -101,8 +142,11 @@ def gather(path: Path, name: str, rows: int = CHUNK_ROWS) -> tuple[TableEvidence
     if first is None:
         raise SourceError(path, "no data rows")
     columns = [_with_tally(col, tallies[col.name]) for col in first.columns]
+    shape = layout(path)
     notes = {"streamed": True, "chunk_rows": rows, "row_order_rows": first.n_rows,
-             "capped_columns": [c for c, t in tallies.items() if t.overflow_rows]}
+             "capped_columns": [c for c, t in tallies.items() if t.overflow_rows],
+             "header_row": shape.skip_lines + 1,
+             "warnings": set_aside_notes(shape.above, shape.below)}
     return TableEvidence(file=name, sheet=None, n_rows=first.n_rows, columns=columns), total, notes
 
 
