@@ -28,7 +28,7 @@ from harmonize.plan import Plan, TablePlan
 from harmonize.safety import failure_line, map_isolated, neutralise_coded
 from harmonize.sources import SourceError, Table, find_inputs, read_tables, write_table
 
-WORKBOOK_SUFFIXES = frozenset({".xlsx", ".xlsm", ".ods"})
+WORKBOOK_SUFFIXES = frozenset({".xlsx", ".xlsm", ".xls", ".ods"})
 OUTPUT_FORMATS = ("csv", "xlsx", "parquet")
 
 
@@ -69,7 +69,7 @@ def _output_names(rel: Path, table: Table, fmt: str | None) -> tuple[Path, str]:
     """Where a table's output goes, and the writer format."""
     suffix = rel.suffix.lower()
     if fmt is None:
-        if suffix in {".xlsx", ".xlsm"}:
+        if suffix in {".xlsx", ".xlsm", ".xls"}:   # no legacy writer: .xls becomes .xlsx
             return rel.with_suffix(".xlsx"), "xlsx"
         if suffix == ".parquet":
             return rel, "parquet"

@@ -78,7 +78,7 @@ __all__ = [
 ]
 
 SUPPORTED_SUFFIXES: frozenset[str] = frozenset(
-    {".csv", ".tsv", ".txt", ".xlsx", ".xlsm", ".ods", ".parquet"}
+    {".csv", ".tsv", ".txt", ".xlsx", ".xlsm", ".xls", ".ods", ".parquet"}
 )
 _DELIMITED = frozenset({".csv", ".tsv", ".txt"})
 _WORKBOOKS = frozenset({".xlsx", ".xlsm"})
@@ -296,6 +296,8 @@ def _dispatch(path: Path, limits: Limits) -> list[Table]:
         return _read_xlsx(path, limits)
     if suffix == ".ods":
         return _read_ods(path, limits)
+    if suffix == ".xls":
+        return _read_xls(path, limits)
     return [_read_parquet(path, limits)]
 
 
@@ -1038,18 +1040,41 @@ def _xlsx_sheet(path: Path, ws: Any, date1904: bool, limits: Limits) -> Table:
 
 
 def _read_ods(path: Path, limits: Limits) -> list[Table]:
-    from python_calamine import CalamineError, CalamineWorkbook
-
     _check_zip_container(path, "content.xml", "spreadsheet", limits)
     _vet_ods(path, limits)
+    return _calamine_tables(path, limits, "spreadsheet")
+
+
+def _read_xls(path: Path, limits: Limits) -> list[Table]:
+    """A legacy binary workbook (BIFF, in an OLE compound file), read by calamine. Systems
+    also write a workbook or tab-separated text under the name .xls: those are read as
+    what they are."""
+    with path.open("rb") as handle:
+        head = handle.read(512)
+    if head.startswith(_OLE_MAGIC):
+        return _calamine_tables(path, limits, "legacy workbook")
+    if head.startswith(b"PK"):
+        return _read_xlsx(path, limits)
+    if head.lstrip(b"\xef\xbb\xbf\xff\xfe \t\r\n").lower().startswith((b"<", b"\x00<", b"<\x00")):
+        raise SourceError(path, "a web page (HTML or XML) named .xls, not a workbook:"
+                                " save it as .xlsx or .csv")
+    return [_read_delimited(path, limits)]
+
+
+def _calamine_tables(path: Path, limits: Limits, kind: str) -> list[Table]:
+    from python_calamine import CalamineError, CalamineWorkbook
+
     try:
         book = CalamineWorkbook.from_path(str(path))
         try:
-            tables = [_ods_sheet(path, book, name, limits) for name in book.sheet_names]
+            tables = [_calamine_sheet(path, book, name, limits) for name in book.sheet_names]
         finally:
             book.close()
-    except CalamineError as exc:
-        raise SourceError(path, f"not a readable spreadsheet ({exc})") from exc
+    except (CalamineError, ValueError, OSError) as exc:
+        detail = " ".join(str(exc).split())[:160]
+        hint = " (password-protected?)" if "password" in detail.lower() or \
+            "encrypt" in detail.lower() else ""
+        raise SourceError(path, f"not a readable {kind}{hint}: {detail}") from exc
     return _all_empty(path, tables)
 
 
@@ -1070,7 +1095,7 @@ def _vet_ods(path: Path, limits: Limits) -> None:
                 raise SourceError(path, f"spreadsheet refused: {exc}") from None
 
 
-def _ods_sheet(path: Path, book: Any, name: str, limits: Limits) -> Table:
+def _calamine_sheet(path: Path, book: Any, name: str, limits: Limits) -> Table:
     sheet = book.get_sheet_by_name(name)
     _check_cells(path, name, sheet.total_height, sheet.total_width, limits)
     builder = _SheetBuilder()

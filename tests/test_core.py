@@ -275,3 +275,26 @@ def test_a_hand_edited_date_order_is_refused_with_its_line() -> None:
                                         r"order 'DYM': expected one of DMY, MDY, YMD or null"):
         loads(bad)
     assert loads(text).tables[0].columns[0].convention["order"] == "DMY"
+
+
+# ISO 3166-2:US subdivision codes, as pycountry's table holds them (US-ND North Dakota,
+# US-NC North Carolina); French "nd"/"nc" (non disponible / non communiqué) are missing
+# words elsewhere (common practice, no source)
+STATES = ["CA", "NY", "TX", "WA", "OR", "NV", "AZ", "CO", "UT", "ID", "MT", "WY", "ND",
+          "NC", "SD", "NE"]
+
+
+def test_short_words_of_one_language_are_codes_in_a_column_of_codes() -> None:
+    import pycountry
+    assert all(pycountry.subdivisions.get(code=f"US-{s}") is not None for s in STATES)
+    rule = find_missing(ColumnEvidence.from_series("state", 0, pd.Series(STATES + ["NA"])))
+    assert rule.tokens == {"na"}     # "NA" is the missing marker every export uses
+    # beside amounts, or written in small letters, they mean "not available"
+    amounts = pd.Series(["12", "17", "nd", "ND", "NC", "25"])
+    assert find_missing(ColumnEvidence.from_series("x", 0, amounts)).tokens == {"nd", "nc"}
+    lower = pd.Series([s.lower() for s in STATES])
+    assert {"nd", "nc"} <= find_missing(ColumnEvidence.from_series("x", 0, lower)).tokens
+    # the user's own missing word is always honoured
+    told = find_missing(ColumnEvidence.from_series("state", 0, pd.Series(STATES)),
+                        Options(missing_words=("ND",)))
+    assert told.tokens == {"nd"}

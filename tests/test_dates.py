@@ -372,7 +372,9 @@ class TestDecisions:
                               "country": ["DE"] * 20})
         decision, evidence = decide(frame, "d")
         assert decision.convention["order"] == "DMY"
-        assert any("steps" in e for e in decision.evidence)
+        # nor does row order: read month-first the rows are the 3rd of January to October,
+        # a monthly series as regular as the daily one
+        assert not any("steps" in e for e in decision.evidence)
         assert any("named country" in e for e in decision.evidence)
         assert decision.confidence < 0.98  # a country's habit, not proof
         result = ENGINE.convert(evidence.values.tolist(), decision.convention)
@@ -511,6 +513,29 @@ class TestStraysAndBranches:
             [f"{d.month}/{d.day}/{d:%y}" for d in american]
         out = apply(pd.DataFrame({"d": values}), "d")
         assert out["02.05.24"] == "2024-05-02" and out["6/2/24"] == "2024-06-02"
+
+    def test_a_monthly_series_on_the_first_leans_to_its_own_order(self) -> None:
+        # the FRBNY nowcast file shipped with statsmodels writes "1/1/85", "2/1/85", ...:
+        # month first, always the 1st. Read day-first the rows would run 1-12 January and
+        # jump a year; read month-first every step is one month. No value decides.
+        months = [date(1985 + i // 12, i % 12 + 1, 1) for i in range(36)]
+        values = [f"{d.month}/{d.day}/{d:%y}" for d in months]
+        frame = pd.DataFrame({"Date": values})
+        decision, _ = decide(frame, "Date")
+        assert decision.convention["order"] is None            # listed, not guessed
+        assert decision.convention["likely_order"] == "MDY"
+        assert any("whole months reading MDY" in e for e in decision.evidence)
+        # the region's CLDR short pattern (en_US M/d/yy) then decides; expected days from
+        # Python's strptime %m/%d/%y (POSIX: 69-99 are 19xx)
+        out = apply(frame, "Date", Options(default_region="US"))
+        assert out == {v: datetime.strptime(v, "%m/%d/%y").date().isoformat() for v in values}
+
+    def test_the_same_day_each_month_leans_to_the_order_that_keeps_the_months(self) -> None:
+        # the 5th of every month for two years, day-first: read month-first it would be
+        # 1-12 May, then a jump of a year
+        values = [f"05/{m:02d}/{y}" for y in (2023, 2024) for m in range(1, 13)]
+        decision, _ = decide(pd.DataFrame({"d": values}), "d")
+        assert decision.convention["likely_order"] == "DMY"
 
     def test_row_order_never_outweighs_a_value(self) -> None:
         # the same day each month (rows read as daily steps the wrong way) and one value

@@ -16,6 +16,7 @@ import sys
 from collections import Counter
 from collections.abc import Sequence
 from dataclasses import dataclass
+from datetime import date
 from pathlib import Path
 
 import numpy as np
@@ -26,6 +27,9 @@ from hypothesis import strategies as st
 from harmonize.engines import dates as engine
 from harmonize.engines import dates_decide as arrays
 from harmonize.engines.dates_decide import (
+    BROKEN_RATIO,
+    BROKEN_STEPS,
+    CALENDAR_STEPS,
     DECIDE,
     LR_SEQUENCE,
     LR_TERRITORY,
@@ -210,44 +214,46 @@ def _written(p: Parsed) -> str:
 
 def _sequence_hint(parsed: Sequence[Parsed], codes: np.ndarray, orders: Sequence[str],
                    year_from: int, log_odds: Counter[str], notes: list[str]) -> None:
-    """Rows in date order: small steps under one reading, month-sized under another."""
+    """Rows in date order: one calendar step under one reading, broken off under another."""
     rows = codes[codes >= 0]
     if len(rows) < 6:
         return
     rows = rows[np.concatenate(([True], rows[1:] != rows[:-1]))]  # drop repeated values
-    steps: dict[str, int] = {}
-    usable = None
-    day_numbers = {}
-    for order in orders:
-        days = np.array([_ordinal(p, order, year_from) for p in parsed], dtype=float)
-        day_numbers[order] = days[rows]
-        ok = ~np.isnan(day_numbers[order])
-        usable = ok if usable is None else usable & ok
-    pairs = usable[1:] & usable[:-1]
-    gaps = {o: np.abs(np.diff(day_numbers[o])) for o in orders}
-    moved = np.zeros(len(pairs), dtype=bool)
-    for order in orders:
-        moved |= np.nan_to_num(gaps[order]) > 0
-    pairs &= moved  # same day under every reading (times differ): no evidence
-    n_pairs = int(pairs.sum())
+    found = {o: [_day(parsed[r], o, year_from) for r in rows.tolist()] for o in orders}
+    steps: Counter[str] = Counter()
+    n_pairs = 0
+    for i in range(1, len(rows)):
+        pair = {o: (found[o][i - 1], found[o][i]) for o in orders}
+        if any(a is None or b is None for a, b in pair.values()):
+            continue
+        if all(a == b for a, b in pair.values()):
+            continue  # same day under every reading (times differ): no evidence
+        n_pairs += 1
+        for order, (a, b) in pair.items():
+            steps[order] += _in_sequence(a, b)
     if n_pairs < 5:
         return
-    for order in orders:
-        steps[order] = int(((gaps[order] >= 1) & (gaps[order] <= SMALL_STEP))[pairs].sum())
     best = max(orders, key=lambda o: steps[o])
     others = max((steps[o] for o in orders if o != best), default=0)
-    if steps[best] >= 0.6 * n_pairs and others <= 0.3 * n_pairs:
+    broken_apart = (steps[best] >= 0.9 * n_pairs and n_pairs - others >= BROKEN_STEPS
+                    and n_pairs - others >= BROKEN_RATIO * (n_pairs - steps[best]))
+    if steps[best] >= 0.6 * n_pairs and (others <= 0.3 * n_pairs or broken_apart):
         log_odds[best] += math.log(LR_SEQUENCE)
         notes.append(f"{steps[best]} of {n_pairs} steps between consecutive rows are 1-"
-                     f"{SMALL_STEP} days reading {best}, against {others} under the other "
-                     f"reading")
+                     f"{SMALL_STEP} days or whole months reading {best}, against {others} "
+                     f"under the other reading")
 
 
-def _ordinal(p: Parsed, order: str, year_from: int) -> float:
-    if not p.has_date:
-        return math.nan
-    found = reading(p, order, year_from)
-    return math.nan if found is None else float(found.toordinal())
+def _day(p: Parsed, order: str, year_from: int) -> date | None:
+    return reading(p, order, year_from) if p.has_date else None
+
+
+def _in_sequence(a: date, b: date) -> bool:
+    """A few days apart, or the same day of the month a calendar step of months apart."""
+    if 1 <= abs((b - a).days) <= SMALL_STEP:
+        return True
+    months = abs((b.year * 12 + b.month) - (a.year * 12 + a.month))
+    return a.day == b.day and months in CALENDAR_STEPS
 
 
 

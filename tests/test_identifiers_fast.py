@@ -9,10 +9,13 @@ from __future__ import annotations
 import re
 
 import pandas as pd
+import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from harmonize.engines.identifiers import _CODE, IdentifierEngine, is_code
+from harmonize.context import Context
+from harmonize.engines.identifiers import _CODE, IdentifierEngine, header_names_code, is_code
+from harmonize.evidence import TableEvidence
 
 ALPHABET = "Ab09 -_/.#\t\n\u00a0é٣:"
 
@@ -38,3 +41,22 @@ def test_convert_passes_values_through_trimmed() -> None:
     result = IdentifierEngine().convert([" 00123 ", "AB-7"], {"trim": True})
     assert result.text == ["00123", "AB-7"]
     assert IdentifierEngine().convert([" 00123 "], {"trim": False}).text == [" 00123 "]
+
+
+@pytest.mark.parametrize(("header", "named"), [
+    ("CustomerID", True), ("IDNumber", True), ("userIDs", True), ("Individual ID", True),
+    ("species_id", True), ("UUID", True),
+    # "ID" inside an upper-case word: acid concentration (statsmodels' stackloss.csv),
+    # an amount paid, a validity flag
+    ("ACIDCONC", False), ("PAID", False), ("VALID", False),
+])
+def test_header_names_a_code(header: str, named: bool) -> None:
+    # common practice, no source: "ID" is a word of its own, or a camel-case part
+    assert header_names_code(header) is named
+
+
+def test_two_digit_measurements_under_a_plain_header_are_not_codes() -> None:
+    # stackloss.csv (statsmodels; Brownlee 1965): acid concentration, two-digit numbers
+    values = ["89", "88", "90", "87", "93", "89", "86", "72", "79", "80", "82", "91"]
+    table = TableEvidence.from_frame(pd.DataFrame({"ACIDCONC": values}))
+    assert IdentifierEngine().propose(table.columns[0], Context(table, None)) is None

@@ -13,8 +13,11 @@ uses (English always), the single letters only of the pair the column uses, and 
 only when the column's numbers are all 1 or 0.
 
 The engine is conservative: a column of "x" and blanks, a two-valued category ("M"/"F",
-"A"/"B"), or a 0/1/2 column is not boolean; a column of only 1 and 0 is, but with a lower
-confidence unless its header reads like a flag (is_..., has_..., active, ...).
+"A"/"B"), or a 0/1/2 column is not boolean. A column of only 1 and 0 is boolean when its
+header reads like a flag (is_..., has_..., active, ...) or its cells are typed workbook
+booleans; otherwise it is left to the numbers engine, which writes 1 and 0 as they are: in
+published statistical tables such columns are as often codes or counts ("sex", "choice",
+"nchildren") as flags, and "true" for a code says nothing while "1" loses nothing.
 """
 
 from __future__ import annotations
@@ -169,6 +172,8 @@ class BooleanEngine:
             return None
         typed = [v for v in raw if column.typed.get(v) == "boolean"]
         flag = header_is_flag(column.name)
+        if digits_only and not (flag or typed):
+            return None  # a 0/1 code or count: the numbers engine keeps it as written
         confidence = self._confidence(fit, len(sides) == 2, digits_only, flag, bool(typed),
                                       reading.letters_only)
         convention = self._convention(reading)
@@ -186,7 +191,7 @@ class BooleanEngine:
         if typed:
             base = 0.995
         elif digits_only:
-            base = 0.93 if flag else 0.7  # a 0/1 column may be a count that never exceeded 1
+            base = 0.93  # a flag header over 1/0: still maybe a count that never exceeded 1
         elif not both_sides:
             base = 0.85 if flag else 0.7
         elif letters_only:

@@ -6,8 +6,8 @@ Every candidate order starts with a prior; each kind of evidence multiplies its 
   value contradicts keeps only the chance that the value is a slip, ``SLIP`` per
   distinct contradicting value;
 * workbook number formats of typed cells in the same column (``DD/MM/YYYY``);
-* row order: consecutive rows a few days apart under one reading and about a month
-  apart under the other;
+* row order: consecutive rows that keep one calendar step (a few days, or whole months)
+  under one reading and break off under the other;
 * locale hints: a stated locale, the CLDR short date pattern of the rows' territories.
 
 The posterior of the leading order is the probability reported. An order is applied
@@ -38,17 +38,20 @@ import numpy as np
 
 from harmonize.engines.dates_fast import SEPARATORS
 from harmonize.engines.dates_parse import OPEN, Parsed
-from harmonize.engines.dates_table import DateTable
+from harmonize.engines.dates_table import DateTable, ordinal_of_keys
 
 DECIDE = 0.98          # posterior needed to convert cells the order alone decides
 SLIP = 0.02            # chance that one distinct value is a slip against the column's order
 LR_FORMAT = 100.0      # typed cells' number format states the author's order
-LR_SEQUENCE = 8.0      # daily steps under one reading, monthly under the other
+LR_SEQUENCE = 8.0      # rows in calendar steps under one reading, not under the other
 LR_TERRITORY = 4.0     # CLDR short pattern of the rows' territory: a prior ...
 TERRITORY_DECIDES = 0.95  # ... that decides when no value does and none contradicts it
 LR_LOCALE = 50.0       # a locale stated by the user
 LR_STATED = 400.0      # an order stated by the user in the run options
 SMALL_STEP = 7         # days between consecutive distinct dates that count as "in sequence"
+CALENDAR_STEPS = (1, 2, 3, 6, 12)  # months between the same day of the month: also in sequence
+BROKEN_STEPS = 2       # out-of-sequence steps under one reading, none to speak of under the
+BROKEN_RATIO = 4       # other (this many times fewer): the other reading keeps the sequence
 NAMES = {"DMY": "day first", "MDY": "month first", "YMD": "year first"}
 
 
@@ -370,37 +373,43 @@ def _softmax(log_odds: Counter[str], orders: Sequence[str]) -> dict[str, float]:
 
 def _sequence_hint(table: DateTable, codes: np.ndarray, orders: Sequence[str],
                    year_from: int, log_odds: Counter[str], notes: list[str]) -> None:
-    """Rows in date order: small steps under one reading, month-sized under another."""
+    """Rows in date order: under the right reading consecutive rows keep one calendar
+    step (days, or whole months: a monthly series on the 1st), under the other the steps
+    break off (a monthly series read the other way runs 1-12 January, then jumps a year)."""
     rows = codes[codes >= 0]
     if len(rows) < 6:
         return
     rows = rows[np.concatenate(([True], rows[1:] != rows[:-1]))]  # drop repeated values
-    steps: dict[str, int] = {}
-    usable = None
-    day_numbers = {}
-    for order in orders:
-        days = table.days(order, year_from)
-        day_numbers[order] = np.where(days > 0, days, np.nan)[rows]
-        ok = ~np.isnan(day_numbers[order])
-        usable = ok if usable is None else usable & ok
+    keys = {o: table.keys(o, year_from)[rows] for o in orders}
+    usable = np.logical_and.reduce([keys[o] > 0 for o in orders])
     pairs = usable[1:] & usable[:-1]
-    gaps = {o: np.abs(np.diff(day_numbers[o])) for o in orders}
     moved = np.zeros(len(pairs), dtype=bool)
     for order in orders:
-        moved |= np.nan_to_num(gaps[order]) > 0
+        moved |= np.diff(keys[order]) != 0
     pairs &= moved  # same day under every reading (times differ): no evidence
     n_pairs = int(pairs.sum())
     if n_pairs < 5:
         return
-    for order in orders:
-        steps[order] = int(((gaps[order] >= 1) & (gaps[order] <= SMALL_STEP))[pairs].sum())
+    steps = {o: int(regular_steps(keys[o])[pairs].sum()) for o in orders}
     best = max(orders, key=lambda o: steps[o])
     others = max((steps[o] for o in orders if o != best), default=0)
-    if steps[best] >= 0.6 * n_pairs and others <= 0.3 * n_pairs:
+    broken_apart = (steps[best] >= 0.9 * n_pairs and n_pairs - others >= BROKEN_STEPS
+                    and n_pairs - others >= BROKEN_RATIO * (n_pairs - steps[best]))
+    if steps[best] >= 0.6 * n_pairs and (others <= 0.3 * n_pairs or broken_apart):
         log_odds[best] += math.log(LR_SEQUENCE)
         notes.append(f"{steps[best]} of {n_pairs} steps between consecutive rows are 1-"
-                     f"{SMALL_STEP} days reading {best}, against {others} under the other "
-                     f"reading")
+                     f"{SMALL_STEP} days or whole months reading {best}, against {others} "
+                     f"under the other reading")
+
+
+def regular_steps(keys: np.ndarray) -> np.ndarray:
+    """Per pair of consecutive days (keys year*10000 + month*100 + day): 1-``SMALL_STEP``
+    days apart, or the same day of the month ``CALENDAR_STEPS`` months apart."""
+    day = keys % 100
+    gap = np.abs(np.diff(ordinal_of_keys(keys)))
+    months = np.abs(np.diff(keys // 10000 * 12 + keys // 100 % 100))
+    same_day = day[1:] == day[:-1]
+    return ((gap >= 1) & (gap <= SMALL_STEP)) | (same_day & np.isin(months, CALENDAR_STEPS))
 
 
 # ---------------------------------------------------------------- hints

@@ -31,13 +31,17 @@ _HEADER = re.compile(
     r"(?:^|[\s_\-./(])(?:id|ids|code|codes|no|nr|num|number|nummer|numéro|numero|zip|"
     r"postal|postcode|postleitzahl|plz|cp|cap|sku|ean|gtin|upc|isbn|iban|account|konto|"
     r"ref|reference|referenz|key|serial|batch|lot|ticket|invoice|rechnung|facture|barcode|"
-    r"vat|tin|ssn|siret|siren|swift|bic|sort code|routing|bestellnummer|kundennummer)"
+    r"vat|tin|ssn|siret|siren|swift|bic|sort code|routing|bestellnummer|kundennummer|"
+    r"uuid|guid|identifier)"
     r"(?:$|[\s_\-./)#:])", re.IGNORECASE)
+# "ID" as a word of a camel-case header ("CustomerID", "IDNumber", "userIDs"), not two
+# letters inside an upper-case word ("ACIDCONC", "PAID", "VALID")
+_CAMEL_ID = re.compile(r"(?:(?<=[a-z])|^)ID(?=$|[^A-Za-z]|[A-Z][a-z]|s\b)")
 LONG_DIGITS = 16   # more digits than a float keeps exactly (IEEE 754 double: 15-17)
 
 
 def header_names_code(header: str) -> bool:
-    return bool(_HEADER.search(header.replace("ID", " id ")))
+    return bool(_HEADER.search(_CAMEL_ID.sub(" id ", header)))
 
 
 def is_code(trimmed: pd.Series) -> np.ndarray:

@@ -3,7 +3,8 @@
 Three kinds are recognised, each reported per column with counts:
 * words: empty or white space, and the words in ``locales/missing_words.txt``
   (N/A, null, -, k.A., n.d., ...), matched after trimming, case folding and removing
-  invisible characters ("N/A\u200b" is "N/A");
+  invisible characters ("N/A\u200b" is "N/A"); a short word of one language ("nd") is
+  a code, not missing, in a column of capital-letter codes of its length (state "ND");
 * placeholders: e-mail addresses at reserved example domains (RFC 2606 / RFC 6761:
   example.com/.net/.org, .example, .invalid, .test) and all-zero phone numbers;
 * sentinels: numbers such as -999 or 9999 in a numeric column, where every other value
@@ -20,6 +21,7 @@ import re
 import weakref
 from collections.abc import Callable
 from dataclasses import dataclass, field
+from functools import cache
 from typing import Any
 
 import numpy as np
@@ -28,7 +30,7 @@ import pyarrow as pa
 import pyarrow.compute as pc
 
 from harmonize.evidence import ColumnEvidence
-from harmonize.locales import all_entries
+from harmonize.locales import all_entries, load_entries
 from harmonize.options import Options
 
 _EMAIL_PLACEHOLDER = re.compile(
@@ -146,6 +148,40 @@ class MissingRule:
     def mask_folded(self, folded: pd.Series) -> np.ndarray:
         """``mask`` of values already folded by ``fold_values``."""
         return (folded.eq("") | folded.isin(self.tokens)).to_numpy(dtype=bool)
+
+
+# A short word of one language ("nd", "nc": French for "not available") that a column of
+# codes of the same shape also holds (US state codes ND and NC, ISO 3166-1 NC) is a code
+# there. The words every export uses ("NA", "nil") stay missing, as do the user's own.
+CODE_MIN_VALUES = 10    # distinct codes a column needs to show the shape
+CODE_MIN_SHARE = 0.9    # of the column's other distinct values
+
+
+@cache
+def _code_like_words() -> frozenset[str]:
+    universal = {fold_token(w) for w in load_entries("missing_words").get("any", ())}
+    return frozenset(fold_token(w) for w in all_entries("missing_words")
+                     if w.isalpha() and len(w) <= 3 and fold_token(w) not in universal)
+
+
+def _codes_not_words(column: ColumnEvidence, folded: pd.Series, tokens: set[str],
+                     options: Options) -> set[str]:
+    """The missing words among ``tokens`` that the column uses as codes: written in
+    capitals like the column's other values, which are codes of their length."""
+    maybe = (tokens & _code_like_words()) - {fold_token(w) for w in options.missing_words}
+    if not maybe:
+        return set()
+    trimmed = pc.utf8_trim_whitespace(arrow_text(column.values))
+    words = folded.isin(maybe).to_numpy()
+    kept = set()
+    for token in maybe:
+        capitals = _flags(pc.match_substring_regex(trimmed, f"^[A-Z]{{{len(token)}}}$"))
+        written = words & folded.eq(token).to_numpy()
+        others = ~words & folded.ne("").to_numpy()
+        if (capitals[written].all() and capitals[others].sum() >= CODE_MIN_VALUES
+                and capitals[others].mean() >= CODE_MIN_SHARE):
+            kept.add(token)
+    return kept
 
 
 def _words(options: Options) -> frozenset[str]:
@@ -272,7 +308,8 @@ def missing_with_mask(column: ColumnEvidence, options: Options | None = None,
     folded = fold_values(column.values)
     reasons: dict[str, str] = {}
     words = pa.array(sorted(_words(options)), type=text.type)
-    for token in _picked(folded, _flags(pc.is_in(text, value_set=words))):
+    found = _picked(folded, _flags(pc.is_in(text, value_set=words)))
+    for token in found - _codes_not_words(column, folded, found, options):
         reasons[token] = "missing-value word"
     for token in _picked(folded, _flags(pc.match_substring(text, "@"))):
         if _EMAIL_PLACEHOLDER.match(token):

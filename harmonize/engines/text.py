@@ -13,7 +13,7 @@ Convention keys (a person may edit them in a plan file):
 
 ``mode``           ``"categories"`` (clean and spell consistently), ``"free"`` (trim only) or
                    ``"as_written"`` (kept as written; trimmed when ``trim`` is true).
-``canonical``      folded key -> spelling, e.g. ``{"saintetienne": "Saint-Étienne"}``. A value
+``canonical``      folded key -> spelling, e.g. ``{"saint etienne": "Saint-Étienne"}``. A value
                    whose key is missing (next month's new town) is cleaned and kept as written.
 ``merge``          spelling -> list of other spellings to write as it, e.g.
                    ``{"Harrowdene": ["Harowdene"]}``. Empty unless a person adds entries (the
@@ -42,11 +42,14 @@ Report details: ``variant_groups`` (up to 100 groups, each {"canonical", "cells_
 ``suggested_merges`` (near matches, never applied), ``country_column`` and ``territories``
 when the values name countries.
 
-The folded key of a value: case folded, compatibility-decomposed, accents dropped, spaces
-and punctuation between two letters, or a letter and a digit, dropped, a trailing full stop
-dropped ("Saint-Étienne" -> "saintetienne", "U.K." -> "uk", "AB-12" -> "ab12"); symbols stay
-("C++", "A-"). Between two digits nothing is dropped: "1.5", "1,5", "15", "1-5" and "1/5"
-are different values (a decimal, a grouping, a range, a fraction, a date).
+The folded key of a value: case folded, compatibility-decomposed, accents dropped; between
+two letters a run of spaces and punctuation is one space, full stops and apostrophes alone
+are dropped ("Saint-Étienne" -> "saint etienne", "U.K." -> "uk", "St. Mary's" -> "st marys");
+between a letter and a digit punctuation is dropped ("AB-12" -> "ab12"); a trailing full stop
+is dropped; symbols stay ("C++", "A-"). Word breaks stay: "Juana" and "Juan A.", "Newcastle"
+and "New Castle" are different names. Between two digits nothing is dropped: "1.5", "1,5",
+"15", "1-5" and "1/5" are different values (a decimal, a grouping, a range, a fraction, a
+date).
 """
 
 from __future__ import annotations
@@ -72,22 +75,33 @@ from harmonize.territory import territory_of
 # Patterns in RE2 syntax, run by Arrow on whole columns. RE2's \s and \w know only ASCII,
 # so the classes are spelled out: _WS is Python's white space (str.isspace), letters and
 # digits are Unicode general categories (L, N; Nd for decimal digits), as Python's \w is.
-_WS = (r"\t-\r\x{1c}-\x{20}\x{85}\x{a0}\x{1680}\x{2000}-\x{200a}\x{2028}\x{2029}\x{202f}"
-       r"\x{205f}\x{3000}")
+_WS_NOT_SPACE = (r"\t-\r\x{1c}-\x{1f}\x{85}\x{a0}\x{1680}\x{2000}-\x{200a}\x{2028}\x{2029}"
+                 r"\x{202f}\x{205f}\x{3000}")
+_WS = _WS_NOT_SPACE + r"\x{20}"
 # Zero-width and other invisible format characters that only hide differences.
 INVISIBLE = r"[\x{200b}\x{200c}\x{200d}\x{2060}\x{feff}\x{ad}\x{180e}]"
 SPACES = f"[{_WS}]+"
 COMBINING = r"[\x{300}-\x{36f}\x{1ab0}-\x{1aff}\x{1dc0}-\x{1dff}\x{20d0}-\x{20ff}\x{fe20}-\x{fe2f}]"
 # Spaces and punctuation (not symbols such as + # & %) ...
-_SEPARATOR = (rf"[{_WS}\-\x{{2010}}-\x{{2015}}.,;:·'\x{{2018}}\x{{2019}}`´\"\x{{201c}}\x{{201d}}"
-              r"/\\_()\[\]{}!?¡¿…]")
+_MARKS = (r"\-\x{2010}-\x{2015}.,;:·'\x{2018}\x{2019}`´\"\x{201c}\x{201d}"
+          r"/\\_()\[\]{}!?¡¿…")
+_SEPARATOR = f"[{_WS}{_MARKS}]"
+_NOT_A_SPACE = f"[{_WS_NOT_SPACE}{_MARKS}]"   # a separator other than U+0020
 _LETTER = r"[\p{L}\p{Nl}\p{No}]"   # a letter, or a digit that is not a decimal digit (²)
-_ALNUM = r"[\p{L}\p{N}]"
-# ... between two letters, or a letter and a digit; never between two digits ("1.5", "15").
-# Each match takes the letters on either side along, so two passes are needed ("a-b-c").
-INNER_SEPARATORS = (rf"({_LETTER}){_SEPARATOR}+({_ALNUM})"
-                    rf"|(\p{{Nd}}){_SEPARATOR}+({_LETTER})")
-KEEP_SIDES = r"\1\2\3\4"
+# Full stops and apostrophes join the letters around them into one word ("U.K.", "Mary's");
+# any other run of separators between two letters is a word break ("Saint-Étienne",
+# "Juan A."), kept as one space so that "Juana" and "Juan A." stay two values. Between a
+# letter and a digit every separator goes ("AB-12"); between two digits none does
+# ("1.5", "15"). Each match takes the characters on either side along, so every pattern
+# runs twice ("a.b.c"); a word break that is already one space is not matched, so that it
+# does not take along the letter the next break needs ("a\ra\ra").
+_JOINERS = r"[.'\x{2018}\x{2019}`´·]"
+JOINED_LETTERS = rf"({_LETTER}){_JOINERS}+({_LETTER})"
+CODE_SEPARATORS = (rf"({_LETTER}){_SEPARATOR}+(\p{{Nd}})"
+                   rf"|(\p{{Nd}}){_SEPARATOR}+({_LETTER})")
+WORD_SEPARATORS = rf"({_LETTER})(?:{_NOT_A_SPACE}|\x{{20}}{_SEPARATOR}){_SEPARATOR}*({_LETTER})"
+FOLD_PASSES = ((JOINED_LETTERS, r"\1\2"), (CODE_SEPARATORS, r"\1\2\3\4"),
+               (WORD_SEPARATORS, r"\1 \2"))
 TRAILING_STOPS = rf"[.{_WS}]+$"
 # The same in Python's re, whose \s, \w and \d are Unicode-aware: quicker on a few values,
 # where compiling the RE2 patterns (large Unicode classes) costs more than running them.
@@ -96,8 +110,13 @@ _INVISIBLE = re.compile("[\u200b\u200c\u200d\u2060\ufeff\u00ad\u180e]")
 _SPACES = re.compile(r"\s+")
 _COMBINING = re.compile("[\u0300-\u036f\u1ab0-\u1aff\u1dc0-\u1dff\u20d0-\u20ff\ufe20-\ufe2f]")
 _PY_SEPARATOR = "[\\s\\-\u2010-\u2015.,;:·'\u2018\u2019`´\"\u201c\u201d/\\\\_()\\[\\]{}!?¡¿…]"
-_INNER_SEPARATORS = re.compile(rf"(?<=[^\W\d_]){_PY_SEPARATOR}+(?=[^\W_])"
-                               rf"|(?<=\d){_PY_SEPARATOR}+(?=[^\W\d_])")
+_PY_LETTER = r"[^\W\d_]"
+_PY_FOLD_PASSES = (
+    (re.compile(rf"(?<={_PY_LETTER})[.'\u2018\u2019`´·]+(?={_PY_LETTER})"), ""),
+    (re.compile(rf"(?<={_PY_LETTER}){_PY_SEPARATOR}+(?=\d)"
+                rf"|(?<=\d){_PY_SEPARATOR}+(?={_PY_LETTER})"), ""),
+    (re.compile(rf"(?<={_PY_LETTER}){_PY_SEPARATOR}+(?={_PY_LETTER})"), " "),
+)
 _TRAILING_STOPS = re.compile(r"[.\s]+$")
 WORD_BREAKS = re.compile(r"[\s\-'’/]+")
 
@@ -140,8 +159,9 @@ def normalise_in_arrow(values: list[str]) -> list[str]:
 
 
 def fold_many(values: Iterable[str]) -> list[str]:
-    """Folded keys: case, accents, and the spaces and punctuation *between* letters or
-    digits away, and a trailing full stop: 'Côte-d’Or' -> 'cotedor', 'U.K.' -> 'uk'.
+    """Folded keys: case and accents away, punctuation between letters made one space
+    (full stops and apostrophes dropped), between a letter and a digit dropped, a trailing
+    full stop dropped: 'Côte-d’Or' -> 'cote dor', 'U.K.' -> 'uk', 'Juan A.' -> 'juan a'.
 
     Symbols and outer punctuation stay, so that 'C++', 'C#' and 'C', or the grades 'A-',
     'A' and 'A+', remain different values. A value that folds to nothing keys as itself.
@@ -151,8 +171,7 @@ def fold_many(values: Iterable[str]) -> list[str]:
     decomposed = [unicodedata.normalize("NFKD", v.casefold().replace("ı", "i"))
                   for v in values]
     folded = fold_in_arrow(decomposed) if len(values) >= ARROW_FROM else [
-        _TRAILING_STOPS.sub("", _INNER_SEPARATORS.sub("", _COMBINING.sub("", k)))
-        for k in decomposed]
+        _TRAILING_STOPS.sub("", _inner_separators(_COMBINING.sub("", k))) for k in decomposed]
     # marks outside the common combining blocks, if any, go one value at a time
     keys = [k if k.isascii() else _strip_marks(k) for k in folded]
     return [k or v for k, v in zip(keys, values, strict=True)]  # "...": itself
@@ -162,9 +181,16 @@ def fold_in_arrow(decomposed: list[str]) -> list[str]:
     """Combining marks, inner separators and trailing stops away, on case-folded NFKD text."""
     text = pc.replace_substring_regex(pa.array(decomposed, type=pa.large_string()), COMBINING,
                                       "")
-    for _ in range(2):
-        text = pc.replace_substring_regex(text, INNER_SEPARATORS, KEEP_SIDES)
+    for pattern, sides in FOLD_PASSES:
+        for _ in range(2):
+            text = pc.replace_substring_regex(text, pattern, sides)
     return pc.replace_substring_regex(text, TRAILING_STOPS, "").to_pylist()
+
+
+def _inner_separators(text: str) -> str:
+    for pattern, replacement in _PY_FOLD_PASSES:
+        text = pattern.sub(replacement, text)
+    return text
 
 
 def _strip_marks(text: str) -> str:
