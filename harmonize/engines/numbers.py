@@ -9,9 +9,11 @@ the likely reading of listed values and stops one group's notation from deciding
 of a country whose CLDR notation differs.
 
 Written forms read: signs ``-`` ``+`` U+2212, accounting ``(1,234.50)``, trailing minus
-``1.234,56-``, scientific ``1.5E3``, magnitude words (``locales/magnitudes.txt``),
-whole amounts ``5,-``, percentages and currencies (ISO 4217 codes and CLDR signs,
-before or after the number).
+``1.234,56-``, credit/debit marks ``1,234.50 CR``, scientific ``1.5E3``, magnitude words
+(``locales/magnitudes.txt``), whole amounts ``5,-``, percentages (``%``, and ``‰`` ``‱``
+read as a tenth and a hundredth of a percent) and currencies (ISO 4217 codes and CLDR
+signs, before or after the number). Invisible format characters (zero-width spaces,
+direction marks, a soft hyphen between digits) are dropped before reading.
 
 Output: plain decimals with ``.``, no grouping, exact (``decimal.Decimal``), trailing
 fractional zeros dropped unless asked to keep them ("12.50" -> "12.5", "1200.0" -> "1200").
@@ -48,12 +50,27 @@ Convention keys (plain values; edit them in a plan file):
 ``currency``            ISO 4217 code of a single-currency column (bare amounts take it).
 ``symbols``             sign -> ISO code for signs several currencies share, e.g.
                         ``{"$": "CAD"}``; per group when a country column decides it.
+``per_unit``            what the column's prices are per: a unit id of the units engine
+                        ("kg", "lb", "m2", "L") or "piece" ("2,50 €/kg", "$3.10 per lb",
+                        "4 € je Stk."), null when they are plain amounts. A price per another
+                        unit of the same dimension is rewritten per this one (NIST SP 811
+                        factors, 15 significant digits: $1/lb -> 2.20462262184878 per kg);
+                        one per anything else is listed.
+``side_marks``          how credit/debit marks after an amount ("1,234.50 CR", "980 DR",
+                        "12 DB") are read: ``"column"`` (the amount as written, the side in
+                        the companion column "<column> side": "credit" or "debit"),
+                        ``"credit-negative"`` (CR is a minus), ``"debit-negative"`` (DR is a
+                        minus), or null (the column has none: a marked value is listed).
+                        Which side is negative depends on whose books they are (a bank
+                        statement's CR is money in, a supplier ledger's is money owed), so
+                        the engine never picks a sign itself.
 
 Per-group conventions (``Decision.groups``) carry the same keys for the rows of one label.
 
 Engine options (``Options.engine["numbers"]``): ``trust_locale_hint`` (default false) lets a
 locale hint (country column, ``Options.locale``/``default_region``) decide a column or
-group that no value decides; ``trailing_zeros`` ("drop"/"keep") sets that key.
+group that no value decides; ``trailing_zeros`` ("drop"/"keep") sets that key;
+``side_marks`` sets that key for a column that holds credit/debit marks.
 
 Evidence the decision weighs: values that only one notation reads, the role each mark is
 seen in, whole numbers written without group marks, workbook number cells
@@ -79,9 +96,12 @@ from babel import Locale
 from harmonize.context import Context, Split
 from harmonize.engines.base import Converted, Decision, GroupRule
 from harmonize.engines.numbers_convert import (
+    SIDE_COLUMN,
+    SIDE_MODES,
     convert_amounts,
     parse_amount,
     parse_amounts,
+    per_ratio,
 )
 from harmonize.engines.numbers_currency import (
     candidates,
@@ -100,6 +120,7 @@ from harmonize.engines.numbers_forms import (
     Forms,
     analyse,
     format_decimal_plain,
+    per_key,
 )
 from harmonize.engines.numbers_marks import (
     MarkDecision,
@@ -324,11 +345,14 @@ class NumberEngine:
                   typed: np.ndarray) -> Decision:
         options = context.options.for_engine("numbers")
         groups = _group_rule(marks, currency)
+        sides, side_evidence = _decide_sides(column, forms, options)
+        per_unit, per_evidence = _decide_per(column, forms, context)
         convention: dict[str, Any] = {
             **marks.convention(), "trailing_zeros": options.get("trailing_zeros", "drop"),
             "percent": percent, "currency_mode": currency.mode,
-            "currency": currency.code, "symbols": currency.symbols}
-        evidence = list(marks.evidence) + currency.evidence
+            "currency": currency.code, "symbols": currency.symbols, "side_marks": sides,
+            "per_unit": per_unit}
+        evidence = list(marks.evidence) + currency.evidence + side_evidence + per_evidence
         if typed.any():
             evidence.append(f"{int(typed.sum())} value(s) are workbook number cells")
         if column.formats:
@@ -336,7 +360,13 @@ class NumberEngine:
                 f"{fmt!r}" for fmt, _ in column.formats.most_common(3)))
         if percent:
             evidence.append("values are percentages: numbers kept as written, unit 'percent'")
+            if (forms.percent & (forms.shift < 0) & forms.is_number).any():
+                evidence.append("per mille (‰) and per ten thousand (‱) values are written as "
+                                "percentages: a tenth and a hundredth of their number")
         unit = "percent" if percent else currency.code
+        if per_unit:
+            symbol = _per_symbol(per_unit)
+            unit = f"{currency.code}/{symbol}" if currency.code else f"per {symbol}"
         details: dict[str, Any] = {"group_marks": _group_marks_seen(forms, marks.mark)}
         if percent:
             details["percent_note"] = "numbers keep their written value (12.5% -> 12.5)"
@@ -352,8 +382,84 @@ class NumberEngine:
         return convert_amounts(values, convention)
 
     def companions(self, convention: Mapping[str, Any]) -> tuple[str, ...]:
-        """A column mixing currencies keeps each row's ISO code beside the amount."""
-        return ("currency",) if convention.get("currency_mode") == "mixed" else ()
+        """A column mixing currencies keeps each row's ISO code beside the amount; one
+        whose credit/debit marks are not read as signs keeps each row's side."""
+        found = ("currency",) if convention.get("currency_mode") == "mixed" else ()
+        return found + (("side",) if convention.get("side_marks") == SIDE_COLUMN else ())
+
+    def problems(self, convention: Mapping[str, Any]) -> list[str]:
+        sides = convention.get("side_marks")
+        if sides is not None and sides not in SIDE_MODES:
+            return [f"side_marks must be one of {', '.join(SIDE_MODES)} or absent, "
+                    f"not {sides!r}"]
+        return []
+
+
+def _per_symbol(key: str) -> str:
+    from harmonize.engines.units_registry import UNITS
+    return UNITS[key].symbol if key in UNITS else key
+
+
+def _per_target(key: str, context: Context) -> str:
+    from harmonize.engines.units_registry import UNITS, resolve_target
+    if key not in UNITS:
+        return key
+    dimension = UNITS[key].dimension
+    wanted = context.options.unit_targets.get(dimension)
+    found = resolve_target(wanted, dimension) if wanted else None
+    return found if found and per_ratio(key, found) is not None else key
+
+
+def _decide_per(column: ColumnEvidence, forms: Forms, context: Context
+                ) -> tuple[str | None, list[str]]:
+    """What the column's prices are per: the unit most of its priced cells name, or the
+    run's unit target for that dimension (``Options.unit_targets``)."""
+    priced = np.flatnonzero(forms.is_number & (forms.per != ""))
+    if not len(priced):
+        return None, []
+    cells: dict[str, int] = {}
+    for i, token in zip(priced.tolist(), forms.per[priced].tolist(), strict=True):
+        key = per_key(token)
+        cells[key] = cells.get(key, 0) + int(column.counts[i])
+    chosen = max(sorted(cells), key=lambda k: cells[k])
+    evidence = [f"{cells[chosen]} cell(s) are prices per {_per_symbol(chosen)}"]
+    wanted = _per_target(chosen, context)
+    if wanted != chosen:
+        evidence.append(f"prices are written per {_per_symbol(wanted)} (run option)")
+        cells.setdefault(wanted, 0)
+        chosen = wanted
+    others = sorted(k for k in cells if k != chosen)
+    rescaled = [k for k in others if per_ratio(k, chosen) is not None]
+    if rescaled:
+        evidence.append(f"prices per {', '.join(map(_per_symbol, rescaled))} are rewritten per "
+                        f"{_per_symbol(chosen)} (NIST SP 811 factors)")
+    if len(rescaled) < len(others):
+        evidence.append("prices per " + ", ".join(_per_symbol(k) for k in others
+                                                  if k not in rescaled) + " are listed")
+    return chosen, evidence
+
+
+def _decide_sides(column: ColumnEvidence, forms: Forms, options: Mapping[str, Any]
+                  ) -> tuple[str | None, list[str]]:
+    """How the column's credit/debit marks are read (None when it has none)."""
+    marked = forms.is_number & (forms.side != "")
+    if not marked.any():
+        return None, []
+    cells = {side: int(column.counts[marked & (forms.side == side)].sum())
+             for side in ("credit", "debit")}
+    seen = " and ".join(f"{n} {side}" for side, n in cells.items() if n)
+    if "side_marks" not in options and not cells["debit"]:
+        # "1.2 Cr" is also 1.2 crore (10^7) in Indian figures: only a debit mark beside it
+        # shows a ledger
+        return None, [f"{cells['credit']} value(s) end in 'CR' with no debit mark in the "
+                      "column: a credit mark or crore (10^7), listed"]
+    chosen = options.get("side_marks", SIDE_COLUMN)
+    if chosen == SIDE_COLUMN:
+        return chosen, [f"{seen} mark(s) (CR/DR): which side is negative depends on whose "
+                        "books these are, so amounts are written as they stand and each "
+                        "row's side goes to the companion column 'side' (set side_marks to "
+                        "'credit-negative' or 'debit-negative' to sign them)"]
+    return chosen, [f"{seen} mark(s) (CR/DR) read as signs: {chosen} (run option)"]
 
 
 def _decide_percent(column: ColumnEvidence, forms: Forms, number: np.ndarray) -> bool:

@@ -10,8 +10,11 @@ unresolved one, or to scale a value by a magnitude word or exponent.
 
 from __future__ import annotations
 
+import re
 from collections.abc import Mapping, Sequence
+from decimal import Context as DecimalContext
 from decimal import Decimal
+from fractions import Fraction
 from functools import cache
 from typing import Any
 
@@ -33,10 +36,23 @@ from harmonize.engines.numbers_forms import (
     analyse,
     distinct_inverse,
     format_decimal_plain,
+    per_key,
     to_decimal,
 )
 
 MAX_LISTED_CANDIDATES = 6
+# Two numbers joined by a dash or a word for "to" ("5-10 kg", "10–15 €", "6 to 8"): a range,
+# which no single value stands for (words in en, de, fr, it, es: common usage, no source).
+_RANGE = re.compile(r"\d\s*(?:[-\u2013\u2014]|\b(?:to|bis|à|a)\b)\s*[-+]?\D{0,3}\d",
+                    re.IGNORECASE)
+
+
+def range_reason(raw: str) -> str | None:
+    """Why a value that is a range is listed, or None when it is not one."""
+    if not _RANGE.search(raw):
+        return None
+    return (f"{raw!r} is a range, not one value: listed (split it into two columns, or keep "
+            "one end, by hand)")
 UNKNOWN = "?"   # a currency sign the convention does not resolve
 # The decimal mark left open; written as a word (not null) so that a group's convention
 # keeps it when a plan file that drops null values is read back.
@@ -60,6 +76,63 @@ def settled_marks(convention: Mapping[str, Any]) -> Sequence[str]:
 
 def ungrouped_digits_of(convention: Mapping[str, Any]) -> int:
     return int(convention.get("ungrouped_digits") or 0)
+
+
+# ``side_marks`` values: how credit/debit marks ("1,234.50 CR") are read (see ``numbers``).
+SIDE_COLUMN = "column"
+NEGATIVE_SIDE = {"credit-negative": "credit", "debit-negative": "debit"}
+SIDE_MODES = (SIDE_COLUMN, *NEGATIVE_SIDE)
+
+
+PER_DIGITS = 15   # significant digits of a price rescaled to another unit (as units)
+
+
+@cache
+def per_ratio(source: str, target: str) -> Fraction | None:
+    """Price per ``source`` unit -> price per ``target`` unit: times the number of source
+    units in one target unit (NIST SP 811 factors via the units engine); None when the
+    two are not units of one dimension (or are temperatures, which have no ratio)."""
+    from harmonize.engines.units_registry import UNITS, linear_map
+    if source == target:
+        return Fraction(1)
+    known = source in UNITS and target in UNITS
+    if not known or UNITS[source].dimension != UNITS[target].dimension \
+            or UNITS[source].dimension == "temperature":
+        return None
+    return linear_map(target, source)[0]
+
+
+def _per_keys(forms: Forms) -> np.ndarray:
+    keys = np.full(len(forms), "", dtype=object)
+    held = np.flatnonzero(forms.per != "")
+    keys[held] = [per_key(t) for t in forms.per[held].tolist()]
+    return keys
+
+
+def _rescale(texts: np.ndarray, forms: Forms, keys: np.ndarray, target: str | None,
+             keep: bool) -> np.ndarray:
+    """Per value: "" where it reads in the convention's unit of price, else "per" (listed);
+    values priced per another unit of the same dimension are rewritten per ``target``."""
+    problem = np.full(len(forms), "", dtype=object)
+    for i in np.flatnonzero(keys != "").tolist():
+        ratio = per_ratio(keys[i], target) if target else None
+        if ratio is None:
+            problem[i] = "per"
+        elif ratio != 1:
+            value = Fraction(Decimal(texts[i])) * ratio
+            rounded = DecimalContext(prec=PER_DIGITS).divide(Decimal(value.numerator),
+                                                             Decimal(value.denominator))
+            texts[i] = format_decimal_plain(rounded, keep)
+    return problem
+
+
+def signed(forms: Forms, convention: Mapping[str, Any]) -> np.ndarray:
+    """Per value: whether it is negative, its credit/debit mark read as the convention
+    says (a mark read into the companion column leaves the amount as written)."""
+    negative_side = NEGATIVE_SIDE.get(convention.get("side_marks") or "")
+    if negative_side is None:
+        return forms.negative
+    return forms.negative | (forms.side == negative_side)
 
 
 def choose_marks(forms: Forms, mark: str | None,
@@ -180,12 +253,16 @@ def convert_amounts(values: Sequence[str], convention: Mapping[str, Any]) -> Con
                            reasons={at[i]: r for i, r in slow.reasons.items()},
                            candidates={at[i]: c for i, c in slow.candidates.items()},
                            best={at[i]: b for i, b in slow.best.items()})
-        if "currency" in slow.extra:
-            codes = np.full(len(values), convention.get("currency") or "", dtype=object)
-            codes[rest] = slow.extra["currency"]
-            result.extra["currency"] = codes.tolist()
+        # a fast value names no currency (the column's, if any) and carries no side mark
+        fills = {"currency": convention.get("currency") or "", "side": ""}
+        for suffix, slow_extra in slow.extra.items():
+            column = np.full(len(values), fills[suffix], dtype=object)
+            column[rest] = slow_extra
+            result.extra[suffix] = column.tolist()
     if convention.get("currency_mode") == "mixed" and "currency" not in result.extra:
         result.extra["currency"] = [convention.get("currency") or ""] * len(values)
+    if convention.get("side_marks") == SIDE_COLUMN and "side" not in result.extra:
+        result.extra["side"] = [""] * len(values)
     return result
 
 
@@ -202,8 +279,12 @@ def convert_amounts_full(values: Sequence[str], convention: Mapping[str, Any]) -
     read_ungrouped(forms, chosen, mark, ungrouped_digits_of(convention))
     digits = np.where(chosen == ",", forms.comma_digits, forms.dot_digits)
     digits[chosen == ""] = "0"  # unreadable values ("1.2.3e1") have no digits to scale
-    texts = plain_texts(digits, forms.shift, forms.negative, keep)
+    texts = plain_texts(digits, forms.shift, signed(forms, convention), keep)
     problem = _problems(forms, codes, convention)
+    if (forms.per != "").any():
+        per_problem = _rescale(texts, forms, _per_keys(forms), convention.get("per_unit"),
+                               keep)
+        problem = np.where(problem == "", per_problem, problem)
     converted = (chosen != "") & (problem == "")
     result.text = np.where(converted, texts, "").tolist()
     result.outcome[converted] = Outcome.CONVERTED
@@ -217,6 +298,8 @@ def convert_amounts_full(values: Sequence[str], convention: Mapping[str, Any]) -
         default = convention.get("currency") or ""
         filled = np.where(codes == "", default, codes)
         result.extra["currency"] = np.where(converted, filled, "").tolist()
+    if convention.get("side_marks") == SIDE_COLUMN:
+        result.extra["side"] = np.where(converted, forms.side, "").tolist()
     return result
 
 
@@ -236,6 +319,8 @@ def _problems(forms: Forms, codes: np.ndarray, convention: Mapping[str, Any]) ->
         problem[codes == UNKNOWN] = "unknown-currency"
     if not convention.get("percent"):
         problem[forms.percent] = "percent"
+    if convention.get("side_marks") not in SIDE_MODES:
+        problem[forms.side != ""] = "side"
     return problem
 
 
@@ -250,22 +335,37 @@ def _describe(problem: str, forms: Forms, i: int, code: str,
                 "a currency code elsewhere in the column or in its header would decide")
     if problem == "currency":
         return f"{raw!r} names a currency ({code}) in a column of plain numbers"
+    if problem == "per":
+        return (f"{raw!r} is a price per {forms.per[i]!r}, which is not a unit of what the "
+                f"column's prices are per ({convention.get('per_unit') or 'nothing'})")
+    if problem == "side":
+        crore = " or crore (10^7)" if forms.side[i] == "credit" else ""
+        return (f"{raw!r} carries a {forms.side[i]} mark{crore} in a column whose plan reads "
+                "no credit/debit marks (side_marks)")
     return f"{raw!r} is in {code} but the column is in {convention.get('currency')}"
 
 
-def _reading(forms: Forms, i: int, mark: str, keep: bool) -> str:
-    value = to_decimal(forms.digits_for(i, mark), int(forms.shift[i]), bool(forms.negative[i]))
+def _reading(forms: Forms, i: int, mark: str, keep: bool,
+             convention: Mapping[str, Any]) -> str:
+    value = to_decimal(forms.digits_for(i, mark), int(forms.shift[i]),
+                       bool(forms.negative[i]) or _negative_side(forms, i, convention))
     return format_decimal_plain(value, keep)
+
+
+def _negative_side(forms: Forms, i: int, convention: Mapping[str, Any]) -> bool:
+    side = forms.side[i]
+    return bool(side) and NEGATIVE_SIDE.get(convention.get("side_marks") or "") == side
 
 
 def _unresolved_mark(result: Converted, forms: Forms, i: int, convention: Mapping[str, Any],
                      keep: bool) -> None:
     status, raw = forms.status[i], forms.text[i]
     if status == NOT_NUMBER:
-        result.unresolved(i, f"{raw!r} is not an amount in a form this column's values take")
+        result.unresolved(i, range_reason(raw) or
+                          f"{raw!r} is not an amount in a form this column's values take")
         return
     if status == AMBIGUOUS:
-        readings = {m: _reading(forms, i, m, keep) for m in (".", ",")}
+        readings = {m: _reading(forms, i, m, keep, convention) for m in (".", ",")}
         result.unresolved(
             i, f"{raw!r} reads {readings['.']} with '.' as the decimal mark or "
                f"{readings[',']} with ',' as the decimal mark; no value of its column or "
@@ -275,7 +375,7 @@ def _unresolved_mark(result: Converted, forms: Forms, i: int, convention: Mappin
             best=readings.get(convention.get("likely_decimal_mark") or ""))
         return
     own = "." if status == DOT_ONLY else ","
-    reading = _reading(forms, i, own, keep)
+    reading = _reading(forms, i, own, keep, convention)
     result.unresolved(i, f"{raw!r} is written with {mark_name(own)} as the decimal mark but "
                          f"its column or group uses {mark_name(decimal_mark_of(convention))}",
                       candidates=[reading], best=reading)
@@ -291,8 +391,12 @@ def parse_amounts(values: Sequence[str], convention: Mapping[str, Any]) -> list[
     mark = decimal_mark_of(convention)
     chosen = choose_marks(forms, mark, settled_marks(convention))
     read_ungrouped(forms, chosen, mark, ungrouped_digits_of(convention))
+    # a credit/debit mark gives a value only where the convention signs it
+    unsigned = (forms.side != "") & (convention.get("side_marks") not in NEGATIVE_SIDE)
+    chosen[unsigned] = ""
+    negative = signed(forms, convention)
     return [to_decimal(forms.digits_for(i, chosen[i]), int(forms.shift[i]),
-                       bool(forms.negative[i])) if chosen[i] else None
+                       bool(negative[i])) if chosen[i] else None
             for i in range(len(forms))]
 
 

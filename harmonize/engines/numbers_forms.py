@@ -39,19 +39,27 @@ LONG_DIGITS = 16  # digit strings this long are codes (cards, accounts), never a
 # Exact arithmetic for scaling: Decimal's default 28 digits would round long amounts.
 EXACT = Context(prec=200, Emax=10**6, Emin=-(10**6))
 
-# Space look-alikes, apostrophe look-alikes and minus look-alikes folded to one form.
+# Invisible format characters (Unicode general category Cf, all Default_Ignorable): a
+# copy from a web page or a right-to-left system leaves them inside numbers ("1\u200b234",
+# "\u200e-12,5"); they carry no meaning there, so they are dropped before reading.
+INVISIBLE = ("\u061c\u180e\u200b\u200c\u200d\u200e\u200f\u202a\u202b\u202c\u202d"
+             "\u202e\u2060\u2066\u2067\u2068\u2069\ufeff")
+# The soft hyphen (U+00AD, also Cf) is dropped only between two digits ("3\u00ad456"): some
+# legacy code pages wrote a minus sign with its byte, so a leading one is left unread.
+SOFT_HYPHEN = "\u00ad"
+_SOFT_HYPHEN_INSIDE = re.compile(r"(?<=[0-9])\u00ad(?=[0-9])")   # ASCII digits, as RE2's \d
+
+# Space look-alikes, apostrophe look-alikes and minus look-alikes folded to one form;
+# invisible characters dropped.
 FOLD_MAP = {
+    **dict.fromkeys(INVISIBLE, ""),
     "\u00a0": " ", "\u202f": " ", "\u2009": " ", "\u2007": " ", "\u2002": " ",
     "\u2003": " ", "\u2005": " ", "\u2006": " ", "\t": " ",
     "’": "'", "ʼ": "'", "′": "'", "‘": "'",
     "\u2212": "-", "\u2012": "-", "\u2013": "-", "\u2014": "-", "\ufe63": "-", "\uff0d": "-",
     **{chr(0xFF10 + d): str(d) for d in range(10)},  # full-width digits
 }
-FOLD_PAIRS = tuple(FOLD_MAP.items())
 FOLD = str.maketrans(FOLD_MAP)
-# Any character FOLD_MAP rewrites (RE2 syntax): most columns hold none, and one scan
-# for them is cheaper than one rewrite pass per character.
-FOLD_CLASS = "[" + "".join(f"\\x{{{ord(c):04x}}}" for c in FOLD_MAP) + "]"
 
 # Status of a body under the two families (see module docstring).
 NOT_NUMBER, SAME, DOT_ONLY, COMMA_ONLY, AMBIGUOUS = range(5)
@@ -107,6 +115,29 @@ def _magnitude_key(word: str) -> str:
     return word if len(word) == 1 else word.casefold()
 
 
+def is_magnitude_word(word: str) -> bool:
+    """Whether ``word`` is a magnitude word or suffix ("k", "Mio.", "bn")."""
+    return _magnitude_key(word) in magnitudes().exponents
+
+
+# Percent, per mille and per ten thousand signs: the power of ten each takes off the
+# number read as a percentage (1 \u2030 = 0.1 %; Unicode names U+2030 PER MILLE SIGN and U+2031
+# PER TEN THOUSAND SIGN).
+PERCENT_SHIFT = {"%": 0, "\u2030": -1, "\u2031": -2}
+
+# Credit and debit marks after an amount, as ledgers and statements print them
+# ("1,234.50 CR", "980.00 DR"; "DB" in reports edited by COBOL pictures). Common practice,
+# no source. Which side is negative depends on whose books they are: see ``numbers``.
+SIDE_WORDS = {"CR": "credit", "Cr": "credit", "cr": "credit",
+              "DR": "debit", "Dr": "debit", "dr": "debit", "DB": "debit", "Db": "debit"}
+SIDE_PATTERN = "|".join(SIDE_WORDS)
+
+# A price per unit after the amount ("2,50 €/kg", "$3.10 per lb", "4 € je Stk."): the
+# unit a word of letters (with "²" or "³"), read by the units engine's word lists where it
+# is one. Words for "per" in en, it, de, fr, es, nl: common usage, no source.
+PER_WORDS = r"(?i:per|pro|je|par|por|al)\b"
+PER_TOKEN = r"[^\W\d_][^\W\d_]{0,11}[23\u00b2\u00b3]?\.?"
+
 # The number itself, with whatever comes before and after it; pyarrow (RE2) runs this over
 # all values, and the few distinct prefixes and suffixes are then read in Python.
 SPLIT_PATTERN = r"^(?P<pre>\D*?)(?P<num>\d[\d.,' ]*\d|\d|[.,]\d+)(?P<post>\D*|[eE].*)$"
@@ -117,7 +148,9 @@ PLAIN_PATTERN = r"^(?:\d[\d.,' ]*\d|\d|[.,]\d+)$"
 @cache
 def prefix_regex() -> re.Pattern[str]:
     cur = sign_pattern()
-    return re.compile(rf"(?P<open>\()? *(?P<sign1>[-+])? *(?P<cur1>{cur})? *(?P<sign2>[-+])? *")
+    # accounting brackets inside or outside a currency sign: "($1.50)", "$(1.50)"
+    return re.compile(rf"(?P<open>\()? *(?P<sign1>[-+])? *(?P<cur1>{cur})? *(?P<open2>\()?"
+                      rf" *(?P<sign2>[-+])? *")
 
 
 @cache
@@ -126,7 +159,9 @@ def suffix_regex() -> re.Pattern[str]:
     mag = magnitudes().pattern
     return re.compile(
         rf"(?P<dash>[.,]--?)?(?P<exp>[eE][-+]?\d{{1,3}})?(?: *(?P<mag>{mag}))?"
-        rf"(?: *(?P<pct>%))?(?: *(?P<cur2>{cur}))?(?P<trail> *-)? *(?P<close>\))?")
+        rf"(?: *(?P<pct>[%\u2030\u2031]))?(?P<close2> *\))?(?: *(?P<cur2>{cur}))?"
+        rf"(?: *(?:/|{PER_WORDS}) *(?P<per>{PER_TOKEN}))?"
+        rf"(?: *(?P<side>{SIDE_PATTERN})\.?)?(?P<trail> *-)? *(?P<close>\))?")
 
 
 def distinct_inverse(values: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
@@ -188,6 +223,8 @@ class Forms:
     slow_body: pa.Array     # their number bodies
     slow_currency: np.ndarray   # their currency signs or codes ("" when none)
     slow_magnitude: np.ndarray  # their magnitude words ("" when none)
+    slow_side: np.ndarray       # their credit/debit marks, "credit"/"debit" ("" when none)
+    slow_per: np.ndarray        # the unit of a price per unit, as written ("" when none)
 
     def __len__(self) -> int:
         return len(self.status)
@@ -206,6 +243,16 @@ class Forms:
     def magnitude(self) -> np.ndarray:
         """The magnitude word as written ("" when none)."""
         return self._spread(self.slow_magnitude)
+
+    @cached_property
+    def per(self) -> np.ndarray:
+        """The unit of a price per unit as written ("kg" in "2,50 €/kg"; "" when none)."""
+        return self._spread(self.slow_per)
+
+    @cached_property
+    def side(self) -> np.ndarray:
+        """"credit" or "debit" where the value carries such a mark ("" when none)."""
+        return self._spread(self.slow_side)
 
     @property
     def is_number(self) -> np.ndarray:
@@ -312,7 +359,8 @@ def analyse(values: list[str] | np.ndarray) -> Forms:
         bare_digits=fast & digits_only, has_magnitude=np.zeros(n, bool),
         length=view.lengths, zero_first=first == ZERO, raw=raw, fast=fast,
         slow_text=empty, slow_body=empty, slow_currency=np.zeros(0, object),
-        slow_magnitude=np.zeros(0, object))
+        slow_magnitude=np.zeros(0, object), slow_side=np.zeros(0, object),
+        slow_per=np.zeros(0, object))
     if fast.all():   # a fast value's body is its raw text less the sign: marks known
         forms._chars.update(held)
     else:
@@ -375,6 +423,7 @@ def _fill_slow(forms: Forms, parts: dict[str, Any]) -> None:
         getattr(forms, name)[slow] = parts[name]
     forms.slow_text, forms.slow_body = parts["text"], parts["body"]
     forms.slow_currency, forms.slow_magnitude = parts["currency"], parts["magnitude"]
+    forms.slow_side, forms.slow_per = parts["side"], parts["per"]
 
 
 def analyse_full(values: list[str] | np.ndarray) -> Forms:
@@ -387,42 +436,63 @@ def analyse_full(values: list[str] | np.ndarray) -> Forms:
         bare_digits=np.zeros(n, bool), has_magnitude=np.zeros(n, bool),
         length=np.zeros(n, np.int64), zero_first=np.zeros(n, bool), raw=raw,
         fast=np.zeros(n, bool), slow_text=raw, slow_body=raw,
-        slow_currency=np.full(n, "", dtype=object), slow_magnitude=np.full(n, "", dtype=object))
+        slow_currency=np.full(n, "", dtype=object), slow_magnitude=np.full(n, "", dtype=object),
+        slow_side=np.full(n, "", dtype=object), slow_per=np.full(n, "", dtype=object))
     if n:
         _fill_slow(forms, _full_parts(raw))
     return forms
 
 
 def _folded(text: pa.Array) -> pa.Array:
-    """Space, apostrophe, minus and digit look-alikes folded to one form (FOLD_MAP).
+    """Space, apostrophe, minus and digit look-alikes folded to one form, invisible
+    characters dropped (FOLD_MAP).
 
-    Every look-alike but the tab is outside ASCII: a byte scan usually shows there is
-    nothing to fold."""
+    Every one of them but the tab is outside ASCII, and in UTF-8 the bytes of a character
+    outside ASCII are all 0x80 or above: those bytes alone decode to the characters the
+    column holds outside ASCII, so only the look-alikes present are rewritten, one literal
+    pass each."""
     data = ByteView.of(text).data
-    if not ((data >= 0x80).any() or (data == ord("\t")).any()):
-        return text
-    if pc.any(pc.match_substring_regex(text, FOLD_CLASS)).as_py():
-        for old, new in FOLD_PAIRS:
-            text = pc.replace_substring(text, old, new)
+    high = data[data >= 0x80]
+    present = set(high.tobytes().decode("utf-8", "replace")) if len(high) else set()
+    if (data == ord("\t")).any():
+        present.add("\t")
+    for char in sorted(present & FOLD_MAP.keys()):
+        text = pc.replace_substring(text, char, FOLD_MAP[char])
+    if SOFT_HYPHEN in present:
+        # RE2 has no look-around: matches may not overlap, so two passes ("1\u00ad2\u00ad3")
+        for _ in range(2):
+            text = pc.replace_substring_regex(text, r"(\d)\x{00ad}(\d)", r"\1\2")
     return text
+
+
+def fold_chars(text: str) -> str:
+    """``_folded`` for one Python string (the units engine reads cells this way)."""
+    text = text.translate(FOLD)
+    return _SOFT_HYPHEN_INSIDE.sub("", text) if SOFT_HYPHEN in text else text
 
 
 def _full_parts(raw: pa.Array) -> dict[str, Any]:
     """Every part of each value, read by the full patterns (see the module docstring)."""
-    text = _folded(pc.utf8_trim_whitespace(raw))
+    # folded first: a dropped invisible character may leave spaces at either end
+    text = pc.utf8_trim_whitespace(_folded(raw))
     matched, pre_text, num, post_text = _split(text)
     before = _Affixes(pre_text, prefix_regex(), _PREFIX)
     after = _Affixes(post_text, suffix_regex(), _SUFFIX)
     has = before.has | after.has
-    n_signs = has["sign1"].astype(int) + has["sign2"] + has["trail"] + has["open"]
+    # a credit/debit mark is a sign of its own: "-5 CR" says the side twice
+    opened = has["open"].astype(int) + has["open2"]
+    closed = has["close"].astype(int) + has["close2"]
+    n_signs = (has["sign1"].astype(int) + has["sign2"] + has["trail"] + opened
+               + has["side"])
     currency = np.where(has["cur1"], before.part("cur1"), after.part("cur2"))
     named = has["cur1"] | has["cur2"]   # currency != ""
     magnitude = after.part("mag")
     known = np.where(has["cur1"], before.spread("cur1", _known_code, bool),
                      after.spread("cur2", _known_code, bool))
-    valid = (matched & before.ok & after.ok & (has["open"] == has["close"]) & (n_signs <= 1)
+    valid = (matched & before.ok & after.ok & (opened == closed) & (n_signs <= 1)
              & ~(has["cur1"] & has["cur2"]) & ~(has["pct"] & named)
-             & known & ~(after.spread("mag", _currency_only, bool) & ~named))
+             & known & ~(after.spread("mag", _currency_only, bool) & ~named)
+             & ~(has["per"] & (has["pct"] | ~after.spread("per", per_key, bool))))
 
     # "5,-" and "5.–" are whole amounts written with the decimal mark: read as "5,0"/"5.0"
     body = num
@@ -448,11 +518,14 @@ def _full_parts(raw: pa.Array) -> dict[str, Any]:
     status[comma_ok & ~dot_ok] = COMMA_ONLY
 
     exp = after.spread("exp", lambda e: int(e[1:]) if e else 0, np.int64)
+    exp += after.spread("pct", lambda p: PERCENT_SHIFT.get(p, 0), np.int64)
     minus = before.spread("sign1", _is_minus, bool) | before.spread("sign2", _is_minus, bool)
     return {"status": status, "shift": exp + _magnitude_powers(magnitude),
-            "negative": minus | has["trail"] | has["open"], "percent": has["pct"],
+            "negative": minus | has["trail"] | (opened > 0), "percent": has["pct"],
             "currency": currency, "has_currency": named, "bare_digits": bare,
             "magnitude": magnitude, "has_magnitude": has["mag"],
+            "side": after.spread("side", lambda w: SIDE_WORDS.get(w, ""), object),
+            "per": after.part("per"),
             "length": np.asarray(pc.utf8_length(text), dtype=np.int64),
             "zero_first": np.asarray(pc.starts_with(text, "0"), dtype=bool),
             "text": text, "body": body.fill_null("")}
@@ -493,8 +566,8 @@ def _without(array: pa.Array, marks: str) -> pa.Array:
     return array
 
 
-_PREFIX = ("open", "sign1", "cur1", "sign2")
-_SUFFIX = ("dash", "exp", "mag", "pct", "cur2", "trail", "close")
+_PREFIX = ("open", "sign1", "cur1", "open2", "sign2")
+_SUFFIX = ("dash", "exp", "mag", "pct", "close2", "cur2", "per", "side", "trail", "close")
 
 
 def _strings(array: pa.Array) -> np.ndarray:
@@ -514,6 +587,26 @@ def _magnitude_powers(magnitude: np.ndarray) -> np.ndarray:
         words, inverse = distinct_inverse(magnitude[used])
         powers[used] = np.array([table.get(_magnitude_key(w), 0) for w in words])[inverse]
     return powers
+
+
+@cache
+def piece_words() -> frozenset[str]:
+    """Words for one piece after a price per unit (``locales/number_per_words.txt``)."""
+    return frozenset(w.casefold() for w in load_entries("number_per_words").get("piece", ()))
+
+
+@cache
+def per_key(token: str) -> str:
+    """What a price is per: a unit id of the units engine ("kg" for "Kilo"), "piece" for
+    a word such as "Stk.", "" for anything else (then the value is not a price per unit)."""
+    from harmonize.engines.units_registry import read_token  # numbers load without units
+    word = token.rstrip(".")
+    if word.casefold() in piece_words():
+        return "piece"
+    reading = read_token(word)
+    if len(word) == 1 and reading.how == "case-folded":
+        return ""   # "$5/M" is more likely per thousand than per metre
+    return next(iter(reading.units)) if len(reading.units) == 1 else ""
 
 
 def _known_code(token: str) -> bool:

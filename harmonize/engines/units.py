@@ -8,6 +8,12 @@ are converted exactly (``fractions.Fraction`` factors from one hardened pint reg
 plain decimals rounded to ``significant_digits`` (15 by default; results that are exact
 in fewer digits are written exactly: 5 lb -> 2.26796185).
 
+Cells read: "5 kg", "5kg", "1,5 Kilo", "-40 °F", fractions of customary measures ("3/4 in",
+"1 1/2 lb", "1½ lb"), compounds with falling units ("5 ft 11 in", "5'11\"", "3 lb 4 oz"),
+invisible format characters dropped as the numbers engine drops them. The unit of bare
+numbers comes from the header ("Weight (lb)") or, for workbook cells, from number formats
+that all show one unit ('0.0" kg"'). Ranges ("5-10 kg") are listed as ranges.
+
 Output units are named by their SI symbols: kg, m, m², m³, °C, m/s, s, J, Pa, W (or the
 symbol of the chosen target: L, km, °F, US gal, ...). ``Decision.unit`` holds that symbol
 and the output header is the column's header with it appended ("Weight (kg)"), or with
@@ -58,6 +64,7 @@ from harmonize.engines.numbers_marks import scoped_ungrouped
 from harmonize.engines.units_convert import SIGNIFICANT_DIGITS, convert_quantities
 from harmonize.engines.units_parse import (
     Cells,
+    format_unit,
     header_dimensions,
     header_unit,
     split_cells,
@@ -76,6 +83,8 @@ __all__ = ["CAUTION", "UnitEngine", "convert_quantities", "header_unit", "unit_s
 CAUTION = ("Verify converted quantities against the source before safety-critical use; "
            "defer to local codes and licensed practice.")
 ALL_MARKS = frozenset({".", ","})
+HEADER_NAMES = "the header names the unit "
+FORMAT_NAMES = "the workbook's number formats name the unit "
 UNIT_SHARE_FOR_BARE = 0.2   # below this share of unit cells, bare numbers are not ours
 SOLE_UNIT_SHARE = 0.5       # unit cells needed before bare numbers take the sole unit
 
@@ -325,6 +334,9 @@ class UnitEngine:
         cells = split_cells(column.values.tolist())
         tally = Tally.of(cells, column.counts)
         header = header_unit(column.name)
+        from_format = header is None and column.formats
+        if from_format:
+            header = format_unit(column.formats)   # '0.0" kg"': bare workbook numbers in kg
         header_dims = header.reading.dimensions if header else frozenset()
         word_dims = header_dimensions(column.name)
         if tally.unit_cells == 0 and header is None:
@@ -335,6 +347,11 @@ class UnitEngine:
         plan = self._plan(column, context, cells, tally, dimension, header, word_dims)
         if plan is None:
             return None
+        if from_format and header is not None:
+            plan.evidence = [FORMAT_NAMES + e.removeprefix(HEADER_NAMES)
+                             if e.startswith(HEADER_NAMES)
+                             else e.replace("the header's unit", "the formats' unit")
+                             for e in plan.evidence]
         return self._decision(column, context, cells, tally, plan)
 
     def _plan(self, column: ColumnEvidence, context: Context, cells: Cells, tally: Tally,
@@ -475,8 +492,7 @@ def _dimension_evidence(tally: Tally, dimension: str, header: Any,
         evidence.append("cells of another dimension are listed: " + ", ".join(
             f"{c} of {d}" for d, c in sorted(others.items())))
     if header_id:
-        evidence.append(f"the header names the unit {UNITS[header_id].symbol} "
-                        f"(written {header.token!r})")
+        evidence.append(f"{HEADER_NAMES}{UNITS[header_id].symbol} (written {header.token!r})")
     return evidence
 
 
@@ -507,5 +523,5 @@ def _confidence(tally: Tally, total: int, convention: Mapping[str, Any], plan: P
 
 
 def _no_header(plan: Plan) -> bool:
-    return not any(e.startswith("the header names") for e in plan.evidence)
+    return not any(e.startswith((HEADER_NAMES, FORMAT_NAMES)) for e in plan.evidence)
 

@@ -22,6 +22,7 @@ from typing import Any
 import numpy as np
 
 from harmonize.engines.base import Converted
+from harmonize.engines.numbers_convert import range_reason
 from harmonize.engines.numbers_forms import (
     AMBIGUOUS,
     COMMA_ONLY,
@@ -65,6 +66,9 @@ class NumberReadings:
         problems: dict[str, str] = {}
         own = forms.body_length - 1 <= ungrouped if ungrouped else np.zeros(len(forms), bool)
         for i, part in enumerate(distinct):
+            if "/" in part:
+                _read_fraction(part, values, problems)
+                continue
             status = int(forms.status[i])
             marks = _marks_for(status, mark)
             if status == AMBIGUOUS and mark is None and own[i]:
@@ -75,6 +79,22 @@ class NumberReadings:
             values[part] = tuple(to_decimal(forms.digits_for(i, m), int(forms.shift[i]),
                                             bool(forms.negative[i])) for m in marks)
         return cls(values, problems)
+
+
+MAX_DENOMINATOR = 64   # the finest division of the inch customarily written (1/64)
+
+
+def _read_fraction(part: str, values: dict[str, tuple[Decimal, ...]],
+                   problems: dict[str, str]) -> None:
+    """A fraction as customary measures write it ("3/4", "1 1/2"): a proper fraction with a
+    denominator from 2 to 64 (exact in ``Decimal``: ``EXACT`` keeps 200 digits)."""
+    whole, _, fraction = part.lstrip("+-").rpartition(" ")
+    top, bottom = (int(n) for n in fraction.split("/"))
+    if not 0 < top < bottom <= MAX_DENOMINATOR:
+        problems[part] = f"{part!r} is not a fraction of the form customary measures take"
+        return
+    value = EXACT.add(Decimal(int(whole or 0)), EXACT.divide(Decimal(top), Decimal(bottom)))
+    values[part] = (-value if part.startswith("-") else value,)
 
 
 def _marks_for(status: int, mark: str | None) -> tuple[str, ...]:
@@ -265,7 +285,8 @@ def convert_quantities(values: Sequence[str], convention: Mapping[str, Any],
                 continue
         raw = str(values[i]).strip()
         if not pieces:
-            result.unresolved(i, f"{raw!r} is not a quantity in a form this engine reads")
+            result.unresolved(i, range_reason(raw) or
+                              f"{raw!r} is not a quantity in a form this engine reads")
             continue
         cell = read_cell(pieces, numbers, memo, digits)
         if cell.problem:

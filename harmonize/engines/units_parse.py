@@ -16,7 +16,7 @@ from __future__ import annotations
 
 import re
 import unicodedata
-from collections.abc import Sequence
+from collections.abc import Mapping, Sequence
 from dataclasses import dataclass
 from functools import cache, lru_cache
 
@@ -24,13 +24,16 @@ import numpy as np
 import pyarrow as pa
 import pyarrow.compute as pc
 
-from harmonize.engines.numbers_forms import FOLD
+from harmonize.engines.numbers_forms import fold_chars, is_magnitude_word
 from harmonize.engines.units_registry import UNITS, Reading, normalise_token, read_token
 from harmonize.locales import load_entries
 
 # A number part: digits grouped by three (space, apostrophe, dot or comma), or plain digits,
 # with an optional fraction and exponent. The reading of the marks is left to the parser.
-NUMBER = (r"(?:\d{1,3}(?:[ '.,]\d{3})+(?:[.,]\d+)?|\d+(?:[.,]\d+)?|[.,]\d+)"
+# A fraction, as the customary measures are written ("3/4 in", "1 1/2 lb"; "½" is folded
+# to "1/2"), comes first: "1 1/2" is one number, not "1" and a unit "1/2".
+FRACTION = r"(?:\d+ )?\d+/\d+"
+NUMBER = (rf"(?:{FRACTION}|\d{{1,3}}(?:[ '.,]\d{{3}})+(?:[.,]\d+)?|\d+(?:[.,]\d+)?|[.,]\d+)"
           r"(?:[eE][-+]?\d{1,3})?")
 SIMPLE = re.compile(rf"^(?P<sign>[-+])?\s*(?P<num>{NUMBER})\s*(?P<unit>[^\d\s.,+\-].*?)?$")
 PIECE = re.compile(r"(?P<num>\d+(?:[.,]\d+)?)\s*(?P<unit>[^\d\s][^\d]*?)?\s*(?=\d|$)")
@@ -50,12 +53,15 @@ Piece = tuple[str, str | None]  # (number part as written, unit token or None)
 
 
 _SPACED_DEGREE = re.compile(r"°\s+(?=[CFKcfk]\b)")
+# Vulgar fractions ("½", "1¾"): NFKC writes "½" as "1⁄2", so "1½" would become "11⁄2"
+_VULGAR = re.compile(r"(?<=\d)(?=[\u00bc-\u00be\u2150-\u215e])")
 
 
 def fold_text(text: str) -> str:
     """NFKC, then the numbers engine's folding of spaces, apostrophes and minus signs;
-    "21 ° C" is written "21 °C"."""
-    folded = unicodedata.normalize("NFKC", text).translate(FOLD).strip()
+    "21 ° C" is written "21 °C", "1½" is written "1 1/2"."""
+    text = _VULGAR.sub(" ", text)
+    folded = fold_chars(unicodedata.normalize("NFKC", text)).replace("\u2044", "/").strip()
     return _SPACED_DEGREE.sub("°", folded) if "°" in folded else folded
 
 
@@ -156,11 +162,17 @@ def _single_unit(token: str | None) -> str | None:
 
 
 def _falling_units(pieces: list[Piece]) -> bool:
-    """Every piece one unit, each customarily written after the one before."""
-    ids = [_single_unit(unit) for _, unit in pieces]
-    if None in ids or any("," in num or "." in num for num, _ in pieces[:-1]):
+    """The first piece one unit, each later piece a unit customarily written after the
+    one before: "3 lb 4 oz" ("oz" alone is also a fluid ounce; after "lb" it is not)."""
+    if any("," in num or "." in num for num, _ in pieces[:-1]):
         return False
-    return all(b in COMPOUND_NEXT.get(a, ()) for a, b in zip(ids, ids[1:]))
+    unit = _single_unit(pieces[0][1])
+    for _, token in pieces[1:]:
+        if unit is None or token is None:
+            return False
+        follows = read_token(token).units & COMPOUND_NEXT.get(unit, frozenset())
+        unit = next(iter(follows)) if len(follows) == 1 else None
+    return unit is not None
 
 
 # --------------------------------------------------------------------------- headers
@@ -193,6 +205,34 @@ def header_unit(header: str) -> HeaderUnit | None:
             continue  # "Size_M": a one-letter word in the wrong case names no unit
         return HeaderUnit(token, reading, found.span("unit"))
     return None
+
+
+# The literal text of a workbook number format: quoted ('0.0" kg"') or escaped ('0\ \k\g')
+_FORMAT_LITERAL = re.compile(r'"([^"]*)"|\\(.)')
+_UNSHOWN_FORMATS = frozenset({"general", "@"})
+
+
+def format_unit(formats: Mapping[str, int]) -> HeaderUnit | None:
+    """The one unit every number format of a workbook column shows after its numbers
+    ('0.0" kg"', '#,##0\\ "cm"'), read like a header's unit; None when a format shows
+    none, or formats show different ones. Text cells' "General" formats say nothing."""
+    found: set[str] = set()
+    for fmt in formats:
+        if fmt.strip().casefold() in _UNSHOWN_FORMATS:
+            continue
+        for section in fmt.split(";")[:2]:   # positive and negative numbers
+            literal = "".join(a or b for a, b in _FORMAT_LITERAL.findall(section)).strip()
+            found.add(literal)
+    if len(found) != 1:
+        return None
+    token = found.pop()
+    # '0,"K"' and '0.0,, "M"' show thousands and millions, not kelvin and metres
+    if not token or is_magnitude_word(token):
+        return None
+    reading = read_token(token)
+    if not reading.units or reading.how == "case-folded":
+        return None
+    return HeaderUnit(token, reading, (0, 0))
 
 
 @cache
