@@ -783,6 +783,9 @@ def _cell_text(value: Any, number_format: str | None = None) -> tuple[str, str |
         return value, None
     if isinstance(value, bool):
         return ("TRUE" if value else "FALSE"), "boolean"
+    if isinstance(value, (int, np.integer, float, np.floating)) and _scales_to_percent(
+            number_format):
+        return _percent_text(value), "number"
     if isinstance(value, (int, np.integer)):
         return str(int(value)), "number"
     if isinstance(value, (float, np.floating)):
@@ -798,6 +801,25 @@ def _cell_text(value: Any, number_format: str | None = None) -> tuple[str, str |
     if isinstance(value, dt.timedelta):
         return _duration_text(value), "duration"
     return str(value), None
+
+
+_FORMAT_LITERALS = re.compile(r'"[^"]*"|\\.')
+
+
+def _scales_to_percent(number_format: str | None) -> bool:
+    """Whether a number format shows the value times 100 with "%" (a "%" outside quoted
+    text and escapes: ECMA-376 Part 1, §18.8.31 numFmts)."""
+    return bool(number_format) and "%" in _FORMAT_LITERALS.sub("", number_format or "")
+
+
+def _percent_text(value: float | int) -> str:
+    """A number the sheet shows as a percentage, written as it shows it: 0.125 -> 12.5%
+    (exact decimal arithmetic on the value's shortest digits)."""
+    digits = str(int(value)) if isinstance(value, (int, np.integer)) else _float_text(
+        float(value))
+    if not np.isfinite(float(value)):
+        return digits
+    return f"{decimal.Decimal(digits).scaleb(2).normalize():f}%"
 
 
 def _float_text(value: float) -> str:

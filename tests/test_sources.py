@@ -25,6 +25,7 @@ import pytest
 from openpyxl.utils.datetime import CALENDAR_MAC_1904
 
 from harmonize import sources
+from harmonize.options import Options
 from harmonize.sources import (
     CsvDialect,
     SourceError,
@@ -394,6 +395,44 @@ class TestXlsx:
         table = only_table(path)
         assert table.date1904 is True
         assert table.frame["Harvest"].tolist() == ["2006-02-01", "1910-02-03"]
+
+    @pytest.mark.parametrize(("value", "number_format", "text"), [
+        # ECMA-376 Part 1 §18.8.31 (numFmts): "%" multiplies the value by 100 and shows
+        # the sign; in quotes or after a backslash it is a literal, and nothing is scaled
+        (0.125, "0.0%", "12.5%"),
+        (0.07, "0%", "7%"),
+        (-0.003, "0.00%", "-0.3%"),
+        (1, "0%", "100%"),
+        (0.125, '0.000" %"', "0.125"),
+        (0.125, "0.000\\%", "0.125"),
+        (0.125, "0.000", "0.125"),
+    ])
+    def test_percent_formats_show_the_value_as_the_sheet_does(
+        self, tmp_path: Path, value: float, number_format: str, text: str
+    ) -> None:
+        book = openpyxl.Workbook()
+        book.active.append(["Margin"])
+        book.active.append([value])
+        book.active["A2"].number_format = number_format
+        path = tmp_path / "margin.xlsx"
+        book.save(path)
+        table = only_table(path)
+        assert table.frame["Margin"].tolist() == [text]
+        assert table.typed["Margin"] == {text: "number"}
+
+    def test_percent_cells_and_percent_text_agree_once_harmonised(self, tmp_path: Path) -> None:
+        from harmonize.pipeline import harmonize_table
+        book = openpyxl.Workbook()
+        book.active.append(["Margin"])
+        for value in (0.125, "12,5 %", 0.2, "7,5 %", 0.05, "3 %"):
+            book.active.append([value])
+            if not isinstance(value, str):
+                book.active.cell(book.active.max_row, 1).number_format = "0.0%"
+        path = tmp_path / "margin.xlsx"
+        book.save(path)
+        _, result = harmonize_table(only_table(path), "margin.xlsx", Options(), None)
+        # ECMA-376 §18.8.31: 0.125 under "0.0%" is shown, and meant, as 12.5 %
+        assert result.frame.iloc[:, 0].tolist() == ["12.5", "12.5", "20", "7.5", "5", "3"]
 
     def test_time_and_duration_cells(self, tmp_path: Path) -> None:
         book = openpyxl.Workbook()
