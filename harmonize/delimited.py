@@ -10,6 +10,11 @@ the report, so nothing is lost), but only where the file shows them plainly:
   and the header, or they carry the table's delimiters (a spreadsheet's title row saved
   as "Title;;;"); one bare line right above a header stays the header, since a one-column
   list of "Lastname, First" looks just like that;
+* a file no delimiter splits may still be a table whose fields are separated by runs of
+  spaces (statistics packages and old systems write such text): it is read so (the
+  delimiter ``SPACES``) when every line splits into the same number of fields, two or
+  more, and some column holds only numbers, so that a list of "First Last" names or a
+  page of prose stays one column;
 * below the data: up to ``MAX_NOTE_LINES`` last lines that hold no delimiter and no quote
   at all, in a table of two or more columns. A data row always carries its delimiters,
   even when all but its first cell are empty.
@@ -29,6 +34,9 @@ SNIFF_RECORDS = 200
 # A line made only of these (",,," or ";;") above the header is an empty row.
 BLANKISH = " \t" + "".join(CANDIDATE_DELIMITERS)
 LINE_BREAK = re.compile(r"\r\n|\r|\n")
+SPACES = " "            # the delimiter of a table whose fields are separated by spaces
+FIELD_SEPARATOR = "\x1f"  # what runs of spaces become for the parser
+NUMERIC_FIELD = re.compile(r"[-+]?(?:\d+(?:[.,]\d*)?|[.,]\d+)(?:[eE][-+]?\d+)?")
 MAX_TITLE_LINES = 30    # lines looked at above a header
 MAX_NOTE_LINES = 5      # note lines below the data
 ROWS_BELOW_HEADER = 20  # rows read below a header that follows title lines
@@ -122,6 +130,8 @@ def table_start(text: str, forced: str | None = None) -> TableStart:
     first = leading_blank_lines(text)
     delim = forced if forced is not None else detect_delimiter(text[first:first + SNIFF_CHARS])
     plain = TableStart(first, delim)
+    if not delim and forced is None and _spaced_table(text[first:first + SNIFF_CHARS]):
+        return TableStart(first, SPACES)
     lines = _lines(text, first)
     if not lines or len(lines[0][1]) > TITLE_CHARS or _filled(lines[0][1], delim) >= 2:
         return plain
@@ -142,6 +152,24 @@ def _first_wide(filled: list[int]) -> tuple[int, int]:
     """(index, minus width) of the first line of two or more fields: earliest, widest."""
     wide = next((i for i, n in enumerate(filled) if n >= 2), len(filled))
     return wide, -(filled[wide] if wide < len(filled) else 0)
+
+
+def _spaced_table(sample: str) -> bool:
+    """Whether the sample's lines are rows of fields separated by runs of spaces."""
+    if '"' in sample:
+        return False   # quoted fields may hold spaces: not split on them
+    rows = [line.split() for line in LINE_BREAK.split(sample)[:SNIFF_RECORDS] if line.strip()]
+    if len(sample) >= SNIFF_CHARS:
+        rows = rows[:-1]   # the cut may have split the last line
+    if len(rows) < 3 or len(rows[0]) < 2 or any(len(r) != len(rows[0]) for r in rows):
+        return False
+    columns = zip(*rows[1:])
+    return any(all(NUMERIC_FIELD.fullmatch(v) for v in column) for column in columns)
+
+
+def spaced_fields(body: str) -> str:
+    """A table separated by runs of spaces, its fields separated by ``FIELD_SEPARATOR``."""
+    return "\n".join(FIELD_SEPARATOR.join(line.split()) for line in LINE_BREAK.split(body))
 
 
 def _lines(text: str, start: int) -> list[tuple[int, str]]:

@@ -50,15 +50,18 @@ from harmonize.arrowcsv import (
     read_coded,
     write_csv,
 )
-from harmonize.delimited import LINE_BREAK as _LINE_BREAK
 from harmonize.delimited import (
+    FIELD_SEPARATOR,
     MAX_TITLE_LINES,
     ROWS_BELOW_HEADER,
+    SPACES,
     header_index,
     note_lines_below,
     set_aside_notes,
+    spaced_fields,
     table_start,
 )
+from harmonize.delimited import LINE_BREAK as _LINE_BREAK
 from harmonize.delimited import SNIFF_CHARS as _SNIFF_CHARS
 from harmonize.delimited import shown_line as _shown
 from harmonize.safety import LimitError, Limits, check_archive, scan_ods_content
@@ -535,10 +538,13 @@ def _read_delimited(path: Path, limits: Limits) -> Table:
     end, below = note_lines_below(text, delim)
     body = text[start.offset:end]
     header_row = len(_LINE_BREAK.findall(text, 0, start.offset)) + 1
-    _precheck_size(path, body, delim, limits)
     dialect = CsvDialect(encoding, delim, bom, header_row - 1)
     # the file's own bytes when they are the body's UTF-8
-    utf8 = encoding in ("utf-8", "utf-8-sig") and not notes
+    utf8 = encoding in ("utf-8", "utf-8-sig") and not notes and delim != SPACES
+    if delim == SPACES:
+        body, delim = spaced_fields(body), FIELD_SEPARATOR
+        notes.append("fields separated by runs of spaces")
+    _precheck_size(path, body, delim, limits)
     notes += set_aside_notes(start.above, below)
     coded = _read_coded(body, delim, _body_bytes(data, text, bom, start.offset, end)
                         if utf8 else None)

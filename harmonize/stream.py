@@ -22,7 +22,7 @@ import pandas as pd
 from harmonize.apply import TableResult, apply_table
 from harmonize.arrowcsv import write_csv
 from harmonize.decide import decide_table
-from harmonize.delimited import note_lines_below, set_aside_notes
+from harmonize.delimited import SPACES, note_lines_below, set_aside_notes
 from harmonize.engines.base import Outcome
 from harmonize.evidence import ColumnEvidence, TableEvidence
 from harmonize.options import Options
@@ -82,6 +82,8 @@ def layout(path: Path) -> Layout:
     dialect = sniff_csv(head[:cut] or head, forced)  # whole lines: no character cut in two
     # a one-column file: split on a control character that text does not hold
     delimiter = dialect.delimiter or "\x1f"
+    if delimiter == SPACES:
+        delimiter = r"\s+"   # runs of spaces, as the whole-file reader splits them
     ending = tail.decode(dialect.encoding.replace("-sig", ""), errors="replace")
     notes = note_lines_below(ending, dialect.delimiter)[1]
     return Layout(dialect.encoding, delimiter, dialect.skip_lines, dialect.set_aside,

@@ -185,3 +185,45 @@ def test_a_harmonised_output_reads_back_whole(tmp_path: Path) -> None:
     assert not result.errors
     (table,) = read_tables(tmp_path / "out" / "crates.csv")
     assert table.header_row == 1 and table.n_rows == 5
+
+
+SPACED = ("depot   crates   weight_kg\n"
+          "north       12        3.5\n"
+          "south        9       2.25\n"
+          "east         7          4\n")
+
+
+def test_a_table_separated_by_runs_of_spaces_is_split_into_its_columns(tmp_path: Path) -> None:
+    (table,) = read_tables(write(tmp_path, "crates.txt", SPACED))
+    assert table.column_names == ["depot", "crates", "weight_kg"]
+    assert table.frame["weight_kg"].tolist() == ["3.5", "2.25", "4"]
+    assert table.dialect is not None and table.dialect.delimiter == " "
+
+
+@pytest.mark.parametrize("mode", [[], ["--chunk-rows", "1000"], ["--dask"]])
+def test_every_road_splits_a_spaced_table_alike(tmp_path: Path, mode: list[str]) -> None:
+    from click.testing import CliRunner
+
+    from harmonize.cli import main
+    if mode == ["--dask"]:
+        pytest.importorskip("dask.dataframe")
+    source = write(tmp_path, "crates.txt", SPACED)
+    out = tmp_path / "out"
+    result = CliRunner().invoke(main, ["apply", str(source), "--out", str(out), "-q", *mode])
+    assert result.exit_code == 0, result.output
+    lines = (out / "crates.txt").read_text("utf-8").splitlines()
+    assert lines[0].split(",")[:2] == ["depot", "crates"]
+    assert lines[1].split(",")[:2] == ["north", "12"] and len(lines) == 4
+
+
+@pytest.mark.parametrize("text", [
+    # names of two words under a header of two words: no column of numbers, one column
+    "Full name\nAnn Lee\nBo Grant\nCy Dunn\n",
+    # prose
+    "Crates left the north depot\non the second of May\nand reached the coast\n",
+    # quoted fields may hold spaces: not split on them
+    '"North depot" 12\n"South depot" 9\n"East" 7\n',
+])
+def test_text_that_is_no_spaced_table_stays_one_column(tmp_path: Path, text: str) -> None:
+    (table,) = read_tables(write(tmp_path, "notes.txt", text))
+    assert len(table.column_names) == 1
