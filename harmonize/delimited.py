@@ -13,8 +13,9 @@ the report, so nothing is lost), but only where the file shows them plainly:
 * a file no delimiter splits may still be a table whose fields are separated by runs of
   spaces (statistics packages and old systems write such text): it is read so (the
   delimiter ``SPACES``) when every line splits into the same number of fields, two or
-  more, and some column holds only numbers, so that a list of "First Last" names or a
-  page of prose stays one column;
+  more, some column holds only numbers, and the columns are aligned (runs of spaces) or
+  their names quoted, so that a column of "4.4 gal" or "2 May 2024", a list of "First
+  Last" names or a page of prose stays one column;
 * below the data: up to ``MAX_NOTE_LINES`` last lines that hold no delimiter and no quote
   at all, in a table of two or more columns. A data row always carries its delimiters,
   even when all but its first cell are empty.
@@ -156,15 +157,33 @@ def _first_wide(filled: list[int]) -> tuple[int, int]:
 
 def _spaced_table(sample: str) -> bool:
     """Whether the sample's lines are rows of fields separated by runs of spaces."""
-    if '"' in sample:
-        return False   # quoted fields may hold spaces: not split on them
-    rows = [line.split() for line in LINE_BREAK.split(sample)[:SNIFF_RECORDS] if line.strip()]
+    lines = [line for line in LINE_BREAK.split(sample)[:SNIFF_RECORDS] if line.strip()]
     if len(sample) >= SNIFF_CHARS:
-        rows = rows[:-1]   # the cut may have split the last line
+        lines = lines[:-1]   # the cut may have split the last line
+    rows = [line.split() for line in lines]
     if len(rows) < 3 or len(rows[0]) < 2 or any(len(r) != len(rows[0]) for r in rows):
         return False
+    if any(_half_quoted(field) for row in rows for field in row):
+        return False   # a quoted field holding spaces: not split on them
+    # "4.4 gal" or "2 May 2024" under a header of as many words is one column: a table
+    # shows its columns by aligning them (runs of spaces, tabs) or by quoting its names
+    aligned = any(_GAP.search(line.strip()) for line in lines)
+    quoted = all(_QUOTED.fullmatch(name) for name in rows[0])
     columns = zip(*rows[1:])
-    return any(all(NUMERIC_FIELD.fullmatch(v) for v in column) for column in columns)
+    numeric = any(all(NUMERIC_FIELD.fullmatch(v) for v in column) for column in columns)
+    return numeric and (aligned or quoted)
+
+
+_GAP = re.compile(r"\S(?: {2,}|\t)\S")
+_QUOTED = re.compile(r"'[^']*'|\"[^\"]*\"")
+
+
+def _half_quoted(field: str) -> bool:
+    """A field split off a quoted text: it opens a quote it does not close, or closes one."""
+    for quote in ('"', "'"):
+        if field.startswith(quote) != (len(field) > 1 and field.endswith(quote)):
+            return True
+    return '"' in field[1:-1]
 
 
 def spaced_fields(body: str) -> str:

@@ -17,6 +17,7 @@ Whatever scheduler is active runs it: the local one by default, or a cluster aft
 
 from __future__ import annotations
 
+from collections.abc import Sequence
 from typing import TYPE_CHECKING, Any
 
 import numpy as np
@@ -116,6 +117,14 @@ def _run_partition(part: pd.DataFrame, index: int, plan: TablePlan, options: Opt
             "unresolved": {c.plan.name: c.unresolved for c in result.columns if c.unresolved}}
 
 
+def _without_units_row(part: pd.DataFrame,
+                       partition_info: dict[str, Any] | None = None) -> pd.DataFrame:
+    """The first partition less its first row, the units joined to the header."""
+    if partition_info is None or partition_info["number"] != 0:
+        return part
+    return part.iloc[1:]
+
+
 def _trimmed_end(part: pd.DataFrame, note_lines: int, last: int,
                  partition_info: dict[str, Any] | None = None) -> pd.DataFrame:
     """The last partition less the note lines and empty rows that end the file."""
@@ -127,10 +136,12 @@ def _trimmed_end(part: pd.DataFrame, note_lines: int, last: int,
 
 def harmonize_csv_dask(path: str, name: str, dest: Any, options: Options | None,
                        plan: TablePlan | None = None, note_lines: int = 0,
+                       names: Sequence[str] | None = None,
                        **read_options: Any) -> dict[str, Any]:
     """A delimited file through Dask: decide over all partitions, convert each partition
     in parallel, write one output (atomically) and return what the report needs.
-    ``note_lines`` rows at the end of the file are notes, not data."""
+    ``note_lines`` rows at the end of the file are notes, not data; ``names``, when
+    given, are the header's names with the row of units under it joined."""
     import shutil
     import tempfile
 
@@ -141,6 +152,9 @@ def harmonize_csv_dask(path: str, name: str, dest: Any, options: Options | None,
     ddf = dd.read_csv(path, dtype=str, keep_default_na=False, na_filter=False,
                       skip_blank_lines=False, **read_options)
     ddf = ddf.map_partitions(_trimmed_end, note_lines, ddf.npartitions - 1, meta=ddf._meta)
+    if names is not None:
+        ddf = ddf.map_partitions(_without_units_row, meta=ddf._meta)
+        ddf.columns = list(names)
     table_plan = plan or decide_dask(ddf, options, name)
     near = dest.parent if dest is not None else None  # same disk: the rename stays cheap
     with tempfile.TemporaryDirectory(prefix=".harmonize-parts-", dir=near) as folder:

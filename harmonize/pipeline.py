@@ -21,7 +21,6 @@ from harmonize import report as rpt
 from harmonize.apply import TableResult, apply_table, decide_and_apply
 from harmonize.arrowcsv import CodedFrame
 from harmonize.decide import decide_table
-from harmonize.delimited import set_aside_notes
 from harmonize.evidence import ColumnEvidence, TableEvidence
 from harmonize.options import Options
 from harmonize.plan import Plan, TablePlan
@@ -175,11 +174,11 @@ def _process_stream(path: Path, rel: Path, out_dir: Path | None, options: Option
         shape = layout(path)
         table_plan = plan.table_for(str(rel), None, []) if plan is not None else None
         found = harmonize_csv_dask(str(path), str(rel), dest, options, table_plan,
-                                   note_lines=len(shape.below), sep=shape.delimiter,
-                                   encoding=shape.encoding, skiprows=shape.skip_lines)
+                                   note_lines=len(shape.below), names=shape.names,
+                                   sep=shape.delimiter, encoding=shape.encoding,
+                                   skiprows=shape.skip_lines)
         notes = {"dask": True, "partitions": found["partitions"],
-                 "header_row": shape.skip_lines + 1,
-                 "warnings": set_aside_notes(shape.above, shape.below)}
+                 "header_row": shape.header_row, "warnings": shape.warnings()}
     else:
         on_chunk = (lambda done: on_rows(str(rel), done)) if on_rows else None
         result = harmonize_stream(path, str(rel), dest, options, plan,

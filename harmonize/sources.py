@@ -64,6 +64,7 @@ from harmonize.delimited import (
 from harmonize.delimited import LINE_BREAK as _LINE_BREAK
 from harmonize.delimited import SNIFF_CHARS as _SNIFF_CHARS
 from harmonize.delimited import shown_line as _shown
+from harmonize.header_units import ROWS_LOOKED_AT, names_with_units, units_note
 from harmonize.safety import LimitError, Limits, check_archive, scan_ods_content
 
 __all__ = [
@@ -293,15 +294,45 @@ def _effective_limits(path: Path, limits: Limits | None, max_cells: int | None) 
 
 def _dispatch(path: Path, limits: Limits) -> list[Table]:
     suffix = path.suffix.lower()
+    if suffix == ".parquet":
+        return [_read_parquet(path, limits)]   # typed columns: no row of units
     if suffix in _DELIMITED:
-        return [_read_delimited(path, limits)]
-    if suffix in _WORKBOOKS:
-        return _read_xlsx(path, limits)
-    if suffix == ".ods":
-        return _read_ods(path, limits)
-    if suffix == ".xls":
-        return _read_xls(path, limits)
-    return [_read_parquet(path, limits)]
+        tables = [_read_delimited(path, limits)]
+    elif suffix in _WORKBOOKS:
+        tables = _read_xlsx(path, limits)
+    elif suffix == ".ods":
+        tables = _read_ods(path, limits)
+    else:
+        tables = _read_xls(path, limits)
+    return [_join_units_row(t) for t in tables]
+
+
+def _join_units_row(table: Table) -> Table:
+    """The table with a row of units under its header joined to the header's names."""
+    if table.n_rows < 2:
+        return table
+    first = ROWS_LOOKED_AT + 1
+    if isinstance(table, CodedTable) and table.coded is not None:
+        rows = [list(r) for r in zip(*(c.values[c.codes[:first]] for c in table.coded))]
+    else:
+        rows = table.frame.iloc[:first].astype(str).values.tolist()
+    names = names_with_units(table.column_names, rows)
+    if names is None:
+        return table
+    renamed = dict(zip(table.column_names, names))
+    notes = [*table.warnings, units_note(table.header_row)]
+    typed = {renamed[k]: v for k, v in table.typed.items()}
+    formats = {renamed[k]: v for k, v in table.formats.items()}
+    if isinstance(table, CodedTable) and table.coded is not None:
+        n = table.n_rows
+        columns = [drop_unused(c, slice(1, n)) for c in table.coded]
+        return CodedTable(table.path, table.sheet, CodedFrame(names, columns, n - 1),
+                          table.header_row + 1, typed, formats, table.dialect,
+                          table.date1904, notes, coded=columns)
+    frame = table.frame.iloc[1:].reset_index(drop=True)
+    frame.columns = pd.Index(names, dtype=object)
+    return Table(table.path, table.sheet, frame, table.header_row + 1, typed, formats,
+                 table.dialect, table.date1904, notes)
 
 
 def _check_cells(path: Path, sheet: str | None, rows: int, cols: int, limits: Limits) -> None:

@@ -11,8 +11,9 @@ place at the end, so memory stays flat however long the file is.
 
 from __future__ import annotations
 
+import io
 from collections.abc import Callable, Iterator
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 from pathlib import Path
 from typing import Any
 
@@ -25,6 +26,7 @@ from harmonize.decide import decide_table
 from harmonize.delimited import SPACES, note_lines_below, set_aside_notes
 from harmonize.engines.base import Outcome
 from harmonize.evidence import ColumnEvidence, TableEvidence
+from harmonize.header_units import ROWS_LOOKED_AT, names_with_units, units_note
 from harmonize.options import Options
 from harmonize.plan import Plan, TablePlan
 from harmonize.safety import neutralise_coded
@@ -70,6 +72,15 @@ class Layout:
     skip_lines: int = 0    # lines above the header
     above: tuple[str, ...] = ()   # title lines among them
     below: tuple[str, ...] = ()   # note lines below the data (each one record)
+    names: tuple[str, ...] | None = None   # the header with a row of units joined
+
+    @property
+    def header_row(self) -> int:
+        return self.skip_lines + (2 if self.names else 1)
+
+    def warnings(self) -> list[str]:
+        joined = [units_note(self.skip_lines + 1)] if self.names else []
+        return set_aside_notes(self.above, self.below) + joined
 
 
 def layout(path: Path) -> Layout:
@@ -86,8 +97,26 @@ def layout(path: Path) -> Layout:
         delimiter = r"\s+"   # runs of spaces, as the whole-file reader splits them
     ending = tail.decode(dialect.encoding.replace("-sig", ""), errors="replace")
     notes = note_lines_below(ending, dialect.delimiter)[1]
-    return Layout(dialect.encoding, delimiter, dialect.skip_lines, dialect.set_aside,
-                  tuple(notes))
+    shape = Layout(dialect.encoding, delimiter, dialect.skip_lines, dialect.set_aside,
+                   tuple(notes))
+    return replace(shape, names=_units_joined(head[:cut] or head, shape))
+
+
+def _units_joined(head: bytes, shape: Layout) -> tuple[str, ...] | None:
+    """The header with the units of the row under it joined, when that row holds units."""
+    text = head.decode(shape.encoding, errors="replace")
+    try:
+        first = pd.read_csv(io.StringIO(text), sep=shape.delimiter, dtype=object, header=None,
+                            keep_default_na=False, na_filter=False, quotechar='"',
+                            skiprows=shape.skip_lines, nrows=ROWS_LOOKED_AT + 2,
+                            skip_blank_lines=False)
+    except (pd.errors.ParserError, pd.errors.EmptyDataError):
+        return None
+    rows = first.astype(str).values.tolist()
+    if len(rows) < 3:
+        return None
+    names = names_with_units(rows[0], rows[1:])
+    return tuple(names) if names else None
 
 
 def chunks(path: Path, rows: int = CHUNK_ROWS) -> Iterator[pd.DataFrame]:
@@ -101,7 +130,10 @@ def chunks(path: Path, rows: int = CHUNK_ROWS) -> Iterator[pd.DataFrame]:
                              skiprows=shape.skip_lines, skip_blank_lines=False)
         for frame in _without_last(reader, len(shape.below)):
             if names is None:
-                names = _name_columns(path, None, [str(c) for c in frame.columns], [])
+                header = list(shape.names or [str(c) for c in frame.columns])
+                names = _name_columns(path, None, header, [])
+                if shape.names:
+                    frame = frame.iloc[1:]   # the row of units
             frame.columns = pd.Index(names, dtype=object)
             yield frame
     except (pd.errors.ParserError, UnicodeDecodeError) as exc:
@@ -147,8 +179,7 @@ def gather(path: Path, name: str, rows: int = CHUNK_ROWS) -> tuple[TableEvidence
     shape = layout(path)
     notes = {"streamed": True, "chunk_rows": rows, "row_order_rows": first.n_rows,
              "capped_columns": [c for c, t in tallies.items() if t.overflow_rows],
-             "header_row": shape.skip_lines + 1,
-             "warnings": set_aside_notes(shape.above, shape.below)}
+             "header_row": shape.header_row, "warnings": shape.warnings()}
     return TableEvidence(file=name, sheet=None, n_rows=first.n_rows, columns=columns), total, notes
 
 

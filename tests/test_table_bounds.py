@@ -227,3 +227,86 @@ def test_every_road_splits_a_spaced_table_alike(tmp_path: Path, mode: list[str])
 def test_text_that_is_no_spaced_table_stays_one_column(tmp_path: Path, text: str) -> None:
     (table,) = read_tables(write(tmp_path, "notes.txt", text))
     assert len(table.column_names) == 1
+
+
+UNITS_ROW = ("Depot;Weight;Price;Temp\n"
+             ";lb;EUR;(°F)\n"
+             "North;10;12,50;41\n"
+             "South;2,5;7,25;32\n"
+             "East;4;3,10;50\n")
+
+
+@pytest.mark.parametrize("mode", [[], ["--chunk-rows", "1000"], ["--dask"]])
+def test_a_row_of_units_joins_the_header(tmp_path: Path, mode: list[str]) -> None:
+    from click.testing import CliRunner
+
+    from harmonize.cli import main
+    if mode == ["--dask"]:
+        pytest.importorskip("dask.dataframe")
+    source = write(tmp_path, "crates.csv", UNITS_ROW)
+    out = tmp_path / "out"
+    result = CliRunner().invoke(main, ["apply", str(source), "--out", str(out), "-q", *mode])
+    assert result.exit_code == 0, result.output
+    report = json.loads((out / "harmonize-report.json").read_text("utf-8"))
+    (entry,) = report["files"]
+    assert entry["header_row"] == 2 and entry["rows"] == 3
+    names = [c["name"] for c in entry["columns"]]
+    assert names == ["Depot", "Weight (lb)", "Price (EUR)", "Temp (°F)"]
+    lines = (out / "crates.csv").read_text("utf-8").splitlines()
+    assert lines[0] == "Depot,Weight (kg),Price (EUR),Temp (°C)"
+    # NIST SP 811 (B.8): 1 lb = 0.45359237 kg, so 10 lb = 4.5359237 kg; t/°C = (t/°F - 32)/1.8
+    assert lines[1] == "North,4.5359237,12.5,5"
+    assert lines[2] == "South,1.133980925,7.25,0"
+
+
+def test_a_sheets_row_of_units_joins_the_header(tmp_path: Path) -> None:
+    book = openpyxl.Workbook()
+    sheet = book.active
+    for row in (["Depot", "Weight", "Volume"], [None, "kg", "(l)"], ["North", 3.5, 20],
+                ["South", 2, 12.5]):
+        sheet.append(row)
+    path = tmp_path / "crates.xlsx"
+    book.save(path)
+    (table,) = read_tables(path)
+    assert table.column_names == ["Depot", "Weight (kg)", "Volume (l)"]
+    assert table.header_row == 2 and table.frame["Weight (kg)"].tolist() == ["3.5", "2"]
+
+
+@pytest.mark.parametrize("text", [
+    # a column of unit names is data: the first row holds a product too
+    "Product;Unit;Quantity\nApples;kg;12\nPears;kg;9\nCider;l;7\n",
+    # units over columns that hold no numbers
+    "Depot;Weight\n;kg\nNorth;heavy\nSouth;light\n",
+    # a first row of numbers
+    "Depot;Weight\nNorth;12\nSouth;9\n",
+    # a word that is no unit
+    "Depot;Weight\n;approx.\nNorth;12\nSouth;9\n",
+])
+def test_a_first_row_that_is_no_row_of_units_stays_data(tmp_path: Path, text: str) -> None:
+    (table,) = read_tables(write(tmp_path, "crates.csv", text))
+    assert table.header_row == 1
+    assert table.n_rows == len(text.splitlines()) - 1
+
+
+def test_a_header_that_names_its_unit_keeps_it_once(tmp_path: Path) -> None:
+    text = "Depot;Weight (kg)\n;kg\nNorth;12\nSouth;9\n"
+    (table,) = read_tables(write(tmp_path, "crates.csv", text))
+    assert table.column_names == ["Depot", "Weight (kg)"] and table.n_rows == 2
+
+
+@pytest.mark.parametrize("text", [
+    # a quantity and its unit, a date of three words: single spaces inside one column
+    "Tank volume\n4.4 gal\n34 gal\n12 gal\n",
+    "Date of shipment\n2 May 2024\n17 May 2024\n3 June 2024\n",
+])
+def test_values_of_several_words_are_no_spaced_table(tmp_path: Path, text: str) -> None:
+    (table,) = read_tables(write(tmp_path, "column.csv", text))
+    assert len(table.column_names) == 1
+
+
+def test_a_table_of_quoted_names_and_single_spaces_is_split(tmp_path: Path) -> None:
+    # statistics packages write "'OBS' 'GPA'" above rows of single-spaced numbers
+    text = "'OBS' 'GPA' 'GRADE'\n1 2.66 0\n2 2.89 0\n3 3.28 1\n"
+    (table,) = read_tables(write(tmp_path, "grades.txt", text))
+    assert table.column_names == ["'OBS'", "'GPA'", "'GRADE'"]
+    assert table.frame["'GPA'"].tolist() == ["2.66", "2.89", "3.28"]
