@@ -18,7 +18,7 @@ import numpy as np
 from harmonize.context import Context
 from harmonize.engines import engine_named
 from harmonize.engines.base import Converted, Outcome, companions_of
-from harmonize.engines.missing import MissingRule
+from harmonize.engines.missing import MissingRule, fold_values, sentinels_among
 from harmonize.evidence import ColumnEvidence, most_frequent
 from harmonize.plan import ColumnPlan
 
@@ -205,19 +205,30 @@ def _note_examples(result: ColumnResult, converted: Converted, wanted: np.ndarra
         result.examples.append((str(column.values[wanted[i]]), converted.text[i]))
 
 
-def undecided_values(column: ColumnEvidence, plan: ColumnPlan,
-                     result: ColumnResult) -> np.ndarray:
-    """Per distinct value of ``column``: whether ``result`` left a cell of it unresolved.
+def harmonised_sentinels(column: ColumnEvidence, plan: ColumnPlan, result: ColumnResult,
+                         context: Context) -> frozenset[str]:
+    """Folded raw values whose harmonised text is a sentinel among the column's harmonised
+    texts: what a second run over the output would set aside.
 
-    Evidence merged from chunks or partitions has no rows to read that from; there each
-    present value is converted under the plan's base convention instead."""
-    flags = np.zeros(len(column.values), dtype=bool)
+    Evidence merged from chunks or partitions has no rows to map outputs back through;
+    there each present value is converted under the plan's base convention instead."""
     if column.codes is not None:
-        flags[column.codes[result.outcome == Outcome.UNRESOLVED]] = True
-        return flags
-    present = np.flatnonzero(~MissingRule(frozenset(plan.missing)).mask(column.values))
-    if len(present):
-        converted = engine_named(plan.engine).convert(column.values[present].tolist(),
-                                                      plan.convention)
-        flags[present] = np.asarray(converted.outcome) == Outcome.UNRESOLVED
-    return flags
+        texts = result.lookup
+        counts = np.bincount(result.codes, minlength=len(texts))
+    else:
+        present = np.flatnonzero(~MissingRule(frozenset(plan.missing)).mask(column.values))
+        values = column.values[present]
+        converted = engine_named(plan.engine).convert(values.tolist(), plan.convention)
+        texts = np.array(_fill(converted, values, context.options.unresolved_fill), dtype=object)
+        counts = column.counts[present]
+    shown = np.flatnonzero((counts > 0) & (texts != ""))
+    found = sentinels_among(texts[shown], counts[shown], context.options)
+    if not found:
+        return frozenset()
+    flagged = shown[fold_values(texts[shown]).isin(found).to_numpy()]
+    if column.codes is None:
+        raw = column.values[present[flagged]]
+    else:
+        rows = np.isin(result.codes, flagged)
+        raw = column.values[np.unique(column.codes[rows])]
+    return frozenset(fold_values(raw).tolist())

@@ -9,7 +9,7 @@ from typing import TypeVar
 
 import numpy as np
 
-from harmonize.column_apply import ColumnResult, apply_column, undecided_values
+from harmonize.column_apply import ColumnResult, apply_column, harmonised_sentinels
 from harmonize.context import Context
 from harmonize.engines import ENGINES, FALLBACK
 from harmonize.engines.base import Decision
@@ -80,31 +80,35 @@ def decide_column(column: ColumnEvidence, context: Context) -> ColumnPlan:
 
 
 SETTLE_ROUNDS = 3   # a column whose sentinels still change after this keeps the last plan
+SENTINEL_KINDS = ("number", "quantity")   # kinds written as plain numbers
 
 
 def settled_column(column: ColumnEvidence, context: Context
                    ) -> tuple[ColumnPlan, ColumnResult | None]:
     """A column's plan, with the column converted under it when deciding needed that.
 
-    Sentinels are weighed against the values the engine can decide, not against cells it
-    lists as undecided: those are written empty, and a sentinel rule that counted them
-    ("-7,088" beside "-999": a group or a decimal mark?) would see a different column
-    when the output is read again, and set a value aside there that it kept here."""
+    Sentinels are found in the values as written, and again in the values as harmonised:
+    a second run over the output reads only those, with every number written plainly
+    ("20,001 g" is 0.020001 kg there, not a number near 20001) and every cell the engine
+    could not decide empty (so "-7,088", a group or a decimal mark?, is no other negative
+    value beside "-999"). A value either finds a sentinel is set aside, so that both runs
+    set aside the same values. Converted quantities are looked at always, since a unit
+    conversion may write a run of nines the raw values did not show."""
     rule, missing = missing_with_mask(column, context.options)
     plan = _plan_for(column, rule, missing, context)
     result = None
+    extra: frozenset[str] = frozenset()
     for _ in range(SETTLE_ROUNDS):
-        if not rule.sentinel_candidates or plan.kind == "empty":
+        if plan.kind not in SENTINEL_KINDS or not (rule.sentinel_candidates
+                                                   or plan.kind == "quantity"):
             break
         result = apply_column(column, plan, context)
-        undecided = undecided_values(column, plan, result)
-        if not undecided.any():
+        found = harmonised_sentinels(column, plan, result, context) - rule.tokens
+        if not found:
             break
-        settled, missing = missing_with_mask(column, context.options, leave_out=undecided)
-        if settled.tokens == rule.tokens:
-            break
-        rule, result = settled, None
-        plan = _plan_for(column, rule, missing, context)
+        extra |= found
+        rule, missing = missing_with_mask(column, context.options, harmonised=extra)
+        plan, result = _plan_for(column, rule, missing, context), None
     return plan, result
 
 

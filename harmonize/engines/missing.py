@@ -137,8 +137,7 @@ class MissingRule:
 
     tokens: frozenset[str]
     reasons: dict[str, str] = field(default_factory=dict, compare=False)
-    # whether some value looked like a sentinel, so that leaving cells out of the
-    # comparison (``missing_with_mask``'s ``leave_out``) could change the rule
+    # whether some value looked like a sentinel (a run of nines)
     sentinel_candidates: bool = field(default=False, compare=False)
 
     def mask(self, values: np.ndarray) -> np.ndarray:
@@ -190,15 +189,19 @@ def _words(options: Options) -> frozenset[str]:
 
 
 def _sentinels(folded: pd.Series, counts: np.ndarray, min_share: float,
-               text: pa.Array | None = None, leave_out: np.ndarray | None = None
-               ) -> set[str]:
+               text: pa.Array | None = None) -> set[str]:
     """The sentinels ``_sentinel_search`` finds."""
-    return _sentinel_search(folded, counts, min_share, text, leave_out)[0]
+    return _sentinel_search(folded, counts, min_share, text)[0]
+
+
+def sentinels_among(values: np.ndarray, counts: np.ndarray, options: Options) -> set[str]:
+    """The sentinels among distinct non-empty texts (folded, as a rule holds them):
+    the rule run on a column's harmonised values, as a second run would read them."""
+    return _sentinels(fold_values(values), counts, options.min_fit)
 
 
 def _sentinel_search(folded: pd.Series, counts: np.ndarray, min_share: float,
-                     text: pa.Array | None = None, leave_out: np.ndarray | None = None
-                     ) -> tuple[set[str], bool]:
+                     text: pa.Array | None = None) -> tuple[set[str], bool]:
     """Sentinel numbers (99, -999, 9.999,00 ...) among a column's folded values.
 
     The column must be as numeric as an engine needs it to be to claim it (``min_share``),
@@ -209,8 +212,7 @@ def _sentinel_search(folded: pd.Series, counts: np.ndarray, min_share: float,
     A number's size is its whole part; one mark before exactly three digits ("1.234") is
     read as a group mark, so that an amount and its plain rewriting have the same size.
     Every test is a regular expression run in Arrow (on ``text``, the same values as Arrow
-    text, when given): no value is parsed one at a time. Values flagged in ``leave_out``
-    (other than the candidates themselves) are neither compared with nor counted.
+    text, when given): no value is parsed one at a time.
     Returns the sentinels and whether any value was a candidate.
     """
     if text is None:
@@ -221,11 +223,9 @@ def _sentinel_search(folded: pd.Series, counts: np.ndarray, min_share: float,
         nines[maybe] = _flags(pc.match_substring_regex(text.take(maybe), _NINES))
     if not nines.any():
         return set(), False
-    counted = np.ones(len(nines), dtype=bool) if leave_out is None else ~leave_out | nines
-    numeric = _flags(pc.match_substring_regex(text, _NUMBER)) & counted
+    numeric = _flags(pc.match_substring_regex(text, _NUMBER))
     others = numeric & ~nines
-    if (counts[numeric].sum() < min_share * max(counts[counted].sum(), 1)
-            or others.sum() < 5):
+    if counts[numeric].sum() < min_share * max(counts.sum(), 1) or others.sum() < 5:
         return set(), True
     other_text = text.filter(pa.array(others))
     tokens = set(folded[nines].tolist())
@@ -295,12 +295,12 @@ def find_missing(column: ColumnEvidence, options: Options | None = None) -> Miss
 
 
 def missing_with_mask(column: ColumnEvidence, options: Options | None = None,
-                      leave_out: np.ndarray | None = None) -> tuple[MissingRule, np.ndarray]:
+                      harmonised: frozenset[str] = frozenset()
+                      ) -> tuple[MissingRule, np.ndarray]:
     """``find_missing`` and its ``mask`` of the column's values (folded once for both).
 
-    ``leave_out`` flags values the sentinel rule must not compare with: cells the column's
-    engine cannot decide, which an output holds empty, so that the rule sees what it
-    will see when the output is read again.
+    ``harmonised`` names further sentinels, as folded raw values: values whose
+    harmonised form the rule finds a sentinel (see ``decide.settled_column``).
     Each test runs in Arrow on the whole column; Python sees only the few values a test
     picks out (words, e-mail addresses, strings of zeros, sentinel numbers)."""
     options = options or Options()
@@ -320,11 +320,13 @@ def missing_with_mask(column: ColumnEvidence, options: Options | None = None,
     everything = rest.all()
     others = folded if everything else folded[rest]
     others_text = text if everything else text.filter(pa.array(rest))
-    left_out = None if leave_out is None else leave_out[rest]
     sentinels, candidates = _sentinel_search(others, column.counts[rest], options.min_fit,
-                                             others_text, left_out)
+                                             others_text)
     for token in sentinels:
         reasons[token] = "sentinel number far outside the column's other values"
+    for token in harmonised - sentinels:
+        reasons[token] = ("sentinel number far outside the column's other values "
+                          "once they are harmonised")
     rule = MissingRule(frozenset(reasons), reasons, sentinel_candidates=candidates)
     return rule, rule.mask_folded(folded)
 
