@@ -148,11 +148,20 @@ def test_plain_numbers_keep_their_value(run: Harmonised, file: str, names: list[
         assert (pairs.loc[pairs["raw"] == "NA", "out"] == "").all()
 
 
-@pytest.mark.xfail(strict=True, reason="N1 (open-data findings): 6-digit employment counts "
-                                       "are declined by the numbers engine (fixed width)")
+EMPLOYMENT = ["nonfarm", "private", "goods_producing", "service_providing", "manufacturing",
+              "trade_transportation_utilties", "professional_and_business_services",
+              "education_and_health_services", "leisure_and_hospitality", "government"]
+
+
 def test_employment_counts_are_numbers(run: Harmonised) -> None:
-    # BLS Current Employment Statistics, thousands of jobs (vega's us-employment.csv)
-    assert run.column("us-employment.csv", "nonfarm")["kind"] == "number"
+    # BLS Current Employment Statistics, thousands of jobs (vega's us-employment.csv): six
+    # digits on every row, yet counts, not codes; each keeps its value exactly
+    for name in EMPLOYMENT:
+        column = run.column("us-employment.csv", name)
+        assert column["kind"] == "number", name
+        assert column["confidence"] >= 0.9
+        pairs = run.pairs("us-employment.csv", name)
+        assert [Decimal(v) for v in pairs["out"]] == [Decimal(v) for v in pairs["raw"]]
 
 
 def test_millimetres_and_grams_become_metres_and_kilograms(run: Harmonised) -> None:
@@ -169,12 +178,14 @@ def test_millimetres_and_grams_become_metres_and_kilograms(run: Harmonised) -> N
             [Decimal(v) * Decimal("0.001") for v in present["raw"]]
 
 
-@pytest.mark.xfail(strict=True, reason="U1 (open-data findings): the header suffix '_min' "
-                                       "(minimum) is read as the unit minute")
 def test_a_minimum_temperature_is_not_a_duration(run: Harmonised) -> None:
-    # vega's seattle-weather.csv documents temp_min as the day's minimum temperature (°C)
-    assert run.column("seattle-weather.csv", "temp_min")["kind"] != "quantity" or \
-        run.column("seattle-weather.csv", "temp_min")["unit"] != "s"
+    # vega's seattle-weather.csv documents temp_min as the day's minimum temperature (°C),
+    # the partner of temp_max (NOAA daily summary fields TMIN/TMAX): read like temp_max
+    for name in ("temp_min", "temp_max"):
+        column = run.column("seattle-weather.csv", name)
+        assert (column["kind"], column["unit"]) == ("number", None), name
+        pairs = run.pairs("seattle-weather.csv", name)
+        assert [Decimal(v) for v in pairs["out"]] == [Decimal(v) for v in pairs["raw"]]
 
 
 # ---------------------------------------------------------------- codes and names

@@ -65,6 +65,10 @@ Convention keys (plain values; edit them in a plan file):
                         statement's CR is money in, a supplier ledger's is money owed), so
                         the engine never picks a sign itself.
 
+``magnitude_words``     word -> power of ten for magnitude words whose power depends on the
+                        writer's language (``{"bn": 12}``; ``locales/magnitude_languages.txt``);
+                        present when the column holds such words; a word absent is listed.
+
 Per-group conventions (``Decision.groups``) carry the same keys for the rows of one label.
 
 Engine options (``Options.engine["numbers"]``): ``trust_locale_hint`` (default false) lets a
@@ -77,14 +81,16 @@ seen in, whole numbers written without group marks, workbook number cells
 (``ColumnEvidence.typed``, plain already) and formats, the CLDR notation of each row's
 country (babel), the header (currency codes and signs), a column of currency codes, and
 the run options. Typed workbook numbers are not counted as evidence about the text cells
-beside them.
+beside them. Where no value of a column decides its mark, the other numbers of the same
+rows may (``numbers_rows``); fixed-width digit strings are codes unless their row order
+shows a measured series (``numbers_series``).
 """
 
 from __future__ import annotations
 
 import re
 from collections.abc import Mapping, Sequence
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 from functools import cache
 from typing import Any, ClassVar
 
@@ -122,12 +128,15 @@ from harmonize.engines.numbers_forms import (
     format_decimal_plain,
     per_key,
 )
+from harmonize.engines.numbers_magnitudes import KEY as MAGNITUDE_KEY
+from harmonize.engines.numbers_magnitudes import MagnitudeDecision, decide_magnitude_words
 from harmonize.engines.numbers_marks import (
     MarkDecision,
     decide_column_marks,
     decide_marks,
     single_territory,
 )
+from harmonize.engines.numbers_series import measured_series
 from harmonize.evidence import ColumnEvidence
 from harmonize.locales import load_entries
 
@@ -281,8 +290,9 @@ def _identifier_words() -> frozenset[str]:
     return frozenset(w.casefold() for w in load_entries("number_headers").get("identifier", ()))
 
 
-def _identifier_like(column: ColumnEvidence, forms: Forms) -> bool:
-    """Codes that happen to be digits (leading zeros, fixed width, 16+ digits)."""
+def _identifier_like(column: ColumnEvidence, forms: Forms) -> tuple[bool, str | None]:
+    """Codes that happen to be digits (leading zeros, fixed width, 16+ digits), and the
+    evidence sentence when fixed-width digits are kept as numbers: a measured series."""
     counts, total = column.counts, max(column.total, 1)
     bare = forms.bare_digits
     lengths = forms.length
@@ -291,18 +301,22 @@ def _identifier_like(column: ColumnEvidence, forms: Forms) -> bool:
     longer = np.flatnonzero(lengths >= 16)
     long_digits[longer] = [forms.text_at(i).isdigit() for i in longer.tolist()]
     if counts[leading_zero | long_digits].sum() >= IDENTIFIER_SHARE * total:
-        return True
+        return True, None
     number_cells = counts[forms.is_number].sum()
     if counts[bare].sum() < 0.95 * number_cells:
-        return False
+        return False, None
     words = set(re.findall(r"\w+", column.name.casefold()))
     if words & _identifier_words() or "#" in column.name:
-        return True
+        return True, None
     widths = set(lengths[bare].tolist())
     if len(widths) == 1 and widths.pop() >= FIXED_WIDTH_MIN and bare.sum() >= 20:
         round_share = np.mean(pc.ends_with(forms.text_array.filter(pa.array(bare)), "0"))
-        return bool(round_share < 0.5)
-    return False
+        if round_share >= 0.5:
+            return False, None
+        # a header naming no code: a series measured row after row is still numbers
+        series = measured_series(column, forms, bare)
+        return series is None, series
+    return False, None
 
 
 def _unit_lookalike(forms: Forms, number: np.ndarray) -> bool:
@@ -326,7 +340,10 @@ class NumberEngine:
         forms = analyse(column.values)
         number = forms.is_number
         fit = float(column.counts[number].sum()) / total
-        if fit < MIN_SHARE or _identifier_like(column, forms):
+        if fit < MIN_SHARE:
+            return None
+        code_like, series = _identifier_like(column, forms)
+        if code_like:
             return None
         if _unit_lookalike(forms, number):
             fit *= 0.5
@@ -338,13 +355,17 @@ class NumberEngine:
         marks = decide_column_marks(column, forms, context, skip)
         currency = _decide_currency(column, forms, context, number)
         percent = _decide_percent(column, forms, number)
-        return self._decision(column, context, forms, fit, marks, currency, percent, typed)
+        words = decide_magnitude_words(column, forms, context,
+                                       lambda: single_territory(context, column.name))
+        decision = self._decision(column, context, forms, fit, marks, currency, percent, typed,
+                                  words)
+        return replace(decision, evidence=(series, *decision.evidence)) if series else decision
 
     def _decision(self, column: ColumnEvidence, context: Context, forms: Forms, fit: float,
                   marks: MarkDecision, currency: CurrencyDecision, percent: bool,
-                  typed: np.ndarray) -> Decision:
+                  typed: np.ndarray, words: MagnitudeDecision) -> Decision:
         options = context.options.for_engine("numbers")
-        groups = _group_rule(marks, currency)
+        groups = _group_rule(marks, currency, words)
         sides, side_evidence = _decide_sides(column, forms, options)
         per_unit, per_evidence = _decide_per(column, forms, context)
         convention: dict[str, Any] = {
@@ -352,7 +373,10 @@ class NumberEngine:
             "percent": percent, "currency_mode": currency.mode,
             "currency": currency.code, "symbols": currency.symbols, "side_marks": sides,
             "per_unit": per_unit}
-        evidence = list(marks.evidence) + currency.evidence + side_evidence + per_evidence
+        if words.evidence:
+            convention[MAGNITUDE_KEY] = words.readings
+        evidence = (list(marks.evidence) + currency.evidence + side_evidence + per_evidence
+                    + words.evidence)
         if typed.any():
             evidence.append(f"{int(typed.sum())} value(s) are workbook number cells")
         if column.formats:
@@ -372,7 +396,8 @@ class NumberEngine:
             details["percent_note"] = "numbers keep their written value (12.5% -> 12.5)"
         if currency.code:
             details["currency_note"] = f"amounts in {currency.code}; no exchange-rate conversion"
-        confidence = _kind_confidence(forms, fit) * marks.confidence * currency.confidence
+        confidence = (_kind_confidence(forms, fit) * marks.confidence * currency.confidence
+                      * words.confidence)
         return Decision(kind="number", engine=self.name, fit=min(fit, 1.0),
                         confidence=round(min(max(confidence, 0.01), 0.999), 4),
                         convention=convention, groups=groups, evidence=tuple(evidence),
@@ -491,9 +516,18 @@ def _group_marks_seen(forms: Forms, mark: str | None) -> list[str]:
     return sorted(seen)
 
 
-def _group_rule(marks: MarkDecision, currency: CurrencyDecision) -> GroupRule | None:
+def _group_rule(marks: MarkDecision, currency: CurrencyDecision,
+                words: MagnitudeDecision) -> GroupRule | None:
     per_label: dict[str, dict[str, Any]] = {k: dict(v) for k, v in marks.per_label.items()}
     by = marks.split.column if marks.split is not None else None
+    if words.per_label and by in (None, words.split_column):
+        # a group's readings replace the column's: the column's own are merged in
+        by = words.split_column
+        for label, readings in words.per_label.items():
+            per_label.setdefault(label, {})[MAGNITUDE_KEY] = {**words.readings, **readings}
+    elif words.per_label:
+        # rows split by another column: a word read alike in every country is read so
+        words.readings.update(_agreed_symbols(words.per_label))
     if currency.per_label and by in (None, currency.split_column):
         by = currency.split_column
         for label, extra in currency.per_label.items():
@@ -507,8 +541,8 @@ def _group_rule(marks: MarkDecision, currency: CurrencyDecision) -> GroupRule | 
     return GroupRule(by=by, conventions=per_label)
 
 
-def _agreed_symbols(per_label: Mapping[str, Mapping[str, str]]) -> dict[str, str]:
-    readings: dict[str, set[str]] = {}
+def _agreed_symbols(per_label: Mapping[str, Mapping[str, Any]]) -> dict[str, Any]:
+    readings: dict[str, set[Any]] = {}
     for symbols in per_label.values():
         for sign, code in symbols.items():
             readings.setdefault(sign, set()).add(code)

@@ -39,6 +39,12 @@ from harmonize.engines.numbers_forms import (
     per_key,
     to_decimal,
 )
+from harmonize.engines.numbers_magnitudes import (
+    language_shift,
+    language_words,
+    open_reason,
+    powers_of,
+)
 
 MAX_LISTED_CANDIDATES = 6
 # Two numbers joined by a dash or a word for "to" ("5-10 kg", "10–15 €", "6 to 8"): a range,
@@ -279,8 +285,10 @@ def convert_amounts_full(values: Sequence[str], convention: Mapping[str, Any]) -
     read_ungrouped(forms, chosen, mark, ungrouped_digits_of(convention))
     digits = np.where(chosen == ",", forms.comma_digits, forms.dot_digits)
     digits[chosen == ""] = "0"  # unreadable values ("1.2.3e1") have no digits to scale
-    texts = plain_texts(digits, forms.shift, signed(forms, convention), keep)
+    shift, open_words = language_shift(forms, convention)
+    texts = plain_texts(digits, shift, signed(forms, convention), keep)
     problem = _problems(forms, codes, convention)
+    problem[open_words & (problem == "")] = "magnitude"
     if (forms.per != "").any():
         per_problem = _rescale(texts, forms, _per_keys(forms), convention.get("per_unit"),
                                keep)
@@ -289,7 +297,9 @@ def convert_amounts_full(values: Sequence[str], convention: Mapping[str, Any]) -
     result.text = np.where(converted, texts, "").tolist()
     result.outcome[converted] = Outcome.CONVERTED
     for i in np.flatnonzero(~converted).tolist():
-        if chosen[i]:
+        if problem[i] == "magnitude" and chosen[i]:
+            _unresolved_magnitude(result, forms, i, digits[i], convention, keep)
+        elif chosen[i]:
             result.unresolved(i, _describe(problem[i], forms, i, codes[i], convention),
                               best=texts[i])
         else:
@@ -345,6 +355,16 @@ def _describe(problem: str, forms: Forms, i: int, code: str,
     return f"{raw!r} is in {code} but the column is in {convention.get('currency')}"
 
 
+def _unresolved_magnitude(result: Converted, forms: Forms, i: int, digits: str,
+                          convention: Mapping[str, Any], keep: bool) -> None:
+    """A value whose magnitude word means different powers in different languages."""
+    key = language_words(forms)[i]
+    negative = bool(signed(forms, convention)[i])
+    readings = [format_decimal_plain(to_decimal(digits, int(forms.shift[i]) + power, negative),
+                                     keep) for power in powers_of(key)]
+    result.unresolved(i, open_reason(forms.text[i], key), candidates=readings)
+
+
 def _reading(forms: Forms, i: int, mark: str, keep: bool,
              convention: Mapping[str, Any]) -> str:
     value = to_decimal(forms.digits_for(i, mark), int(forms.shift[i]),
@@ -394,8 +414,10 @@ def parse_amounts(values: Sequence[str], convention: Mapping[str, Any]) -> list[
     # a credit/debit mark gives a value only where the convention signs it
     unsigned = (forms.side != "") & (convention.get("side_marks") not in NEGATIVE_SIDE)
     chosen[unsigned] = ""
+    shift, open_words = language_shift(forms, convention)
+    chosen[open_words] = ""
     negative = signed(forms, convention)
-    return [to_decimal(forms.digits_for(i, chosen[i]), int(forms.shift[i]),
+    return [to_decimal(forms.digits_for(i, chosen[i]), int(shift[i]),
                        bool(negative[i])) if chosen[i] else None
             for i in range(len(forms))]
 

@@ -33,6 +33,7 @@ from harmonize.engines.numbers_currency import iso_codes, literal, sign_pattern
 from harmonize.locales import load_entries
 
 MAGNITUDE_FILE = "magnitudes"
+LANGUAGE_MAGNITUDE_FILE = "magnitude_languages"   # words whose power depends on the language
 CURRENCY_ONLY_SUFFIX = "+currency"
 LONG_DIGITS = 16  # digit strings this long are codes (cards, accounts), never amounts
 
@@ -93,6 +94,7 @@ class Magnitudes:
     exponents: dict[str, int]     # word as matched (folded for words) -> power of ten
     currency_only: frozenset[str]
     pattern: str
+    by_language: dict[str, dict[str, int]]   # word key -> language -> power (no default)
 
 
 @cache
@@ -105,10 +107,18 @@ def magnitudes() -> Magnitudes:
             exponents[_magnitude_key(word)] = power
             if key.endswith(CURRENCY_ONLY_SUFFIX):
                 currency_only.add(_magnitude_key(word))
-    words = sorted({w for ws in load_entries(MAGNITUDE_FILE).values() for w in ws},
-                   key=len, reverse=True)
+    by_language: dict[str, dict[str, int]] = {}
+    written = {w for ws in load_entries(MAGNITUDE_FILE).values() for w in ws}
+    for key, entries in load_entries(LANGUAGE_MAGNITUDE_FILE).items():
+        word = key.removesuffix(CURRENCY_ONLY_SUFFIX)
+        written.add(word)
+        by_language[_magnitude_key(word)] = {
+            lang.strip(): int(power) for lang, _, power in (e.partition("=") for e in entries)}
+        if key.endswith(CURRENCY_ONLY_SUFFIX):
+            currency_only.add(_magnitude_key(word))
+    words = sorted(written, key=len, reverse=True)
     parts = [literal(w) if len(w) == 1 else f"(?i:{literal(w)})" for w in words]
-    return Magnitudes(exponents, frozenset(currency_only), "|".join(parts))
+    return Magnitudes(exponents, frozenset(currency_only), "|".join(parts), by_language)
 
 
 def _magnitude_key(word: str) -> str:
@@ -117,7 +127,13 @@ def _magnitude_key(word: str) -> str:
 
 def is_magnitude_word(word: str) -> bool:
     """Whether ``word`` is a magnitude word or suffix ("k", "Mio.", "bn")."""
-    return _magnitude_key(word) in magnitudes().exponents
+    key = _magnitude_key(word)
+    return key in magnitudes().exponents or key in magnitudes().by_language
+
+
+def magnitude_key(word: str) -> str:
+    """The key a magnitude word is looked up by (folded, except single letters)."""
+    return _magnitude_key(word)
 
 
 # Percent, per mille and per ten thousand signs: the power of ten each takes off the

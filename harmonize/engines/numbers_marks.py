@@ -26,6 +26,7 @@ from harmonize.engines.numbers_forms import (
     Forms,
     analyse,
 )
+from harmonize.engines.numbers_rows import decide_from_rows
 from harmonize.evidence import ColumnEvidence
 from harmonize.territory import territory_of
 
@@ -326,9 +327,27 @@ def decide_column_marks(column: ColumnEvidence, forms: Forms, context: Context,
             decision.evidence.append(
                 "whole numbers written without group marks in some rows do not show how the "
                 "rows of another country or branch group theirs")
+    if decision.mark is None and tally.cells[AMBIGUOUS] and not (
+            tally.deciding(".") or tally.deciding(",")):
+        by_rows = _marks_from_rows(column, forms, context, skip)
+        if by_rows is not None:
+            return by_rows   # every row shows its own writer's mark: no country guard
     if decision.mark is not None and tally.cells[AMBIGUOUS]:
         _guard_foreign_countries(column, forms, context, decision)
     return decision
+
+
+def _marks_from_rows(column: ColumnEvidence, forms: Forms, context: Context,
+                     skip: np.ndarray) -> MarkDecision | None:
+    """The mark the other cells of the rows show, where no value of the column decides
+    it (see ``numbers_rows``)."""
+    ambiguous = (forms.status == AMBIGUOUS) & ~skip
+    held = np.where(forms.has_char("."), ".", ",")
+    found = decide_from_rows(column, ambiguous, held, context)
+    if found is None:
+        return None
+    return MarkDecision(found.mark, found.mark, found.confidence, [found.evidence],
+                        settled=sorted(ALL_MARKS))
 
 
 def _group_masks(column: ColumnEvidence, split: Split) -> list[np.ndarray]:

@@ -54,6 +54,8 @@ from dataclasses import dataclass
 from typing import Any, ClassVar
 
 import numpy as np
+import pyarrow as pa
+import pyarrow.compute as pc
 
 from harmonize.context import Context
 from harmonize.engines.base import Converted, Decision, GroupRule, Outcome
@@ -64,6 +66,7 @@ from harmonize.engines.numbers_marks import scoped_ungrouped
 from harmonize.engines.units_convert import SIGNIFICANT_DIGITS, convert_quantities
 from harmonize.engines.units_parse import (
     Cells,
+    clock_hour_header,
     format_unit,
     header_dimensions,
     header_unit,
@@ -339,7 +342,7 @@ class UnitEngine:
             header = format_unit(column.formats)   # '0.0" kg"': bare workbook numbers in kg
         header_dims = header.reading.dimensions if header else frozenset()
         word_dims = header_dimensions(column.name)
-        if tally.unit_cells == 0 and header is None:
+        if tally.unit_cells == 0 and (header is None or _clock_hours(column, header)):
             return None
         dimension = _choose_dimension(tally, header_dims, word_dims)
         if dimension is None:
@@ -415,6 +418,15 @@ class UnitEngine:
 
     def convert(self, values: Sequence[str], convention: Mapping[str, Any]) -> Converted:
         return convert_quantities(values, convention)
+
+
+def _clock_hours(column: ColumnEvidence, header: Any) -> bool:
+    """A header such as "peak_hour" over whole numbers 0-23 only: hours of the day (ISO
+    8601 numbers them 00-23), labels rather than durations to convert to seconds."""
+    if not clock_hour_header(header):
+        return False
+    text = pc.utf8_trim_whitespace(pa.array(column.values.tolist(), type=pa.string()))
+    return bool(pc.all(pc.match_substring_regex(text, r"^(?:[01]?\d|2[0-3])$")).as_py())
 
 
 def _header_id(header: Any, dimension: str, decided: Mapping[str, str]) -> str | None:

@@ -203,8 +203,34 @@ def header_unit(header: str) -> HeaderUnit | None:
             continue
         if strict and reading.how == "case-folded" and len(normalise_token(token)) < 2:
             continue  # "Size_M": a one-letter word in the wrong case names no unit
+        if strict and _minimum_not_minute(header, token, found.start("unit")):
+            continue  # "temp_min": the minimum temperature, not minutes
         return HeaderUnit(token, reading, found.span("unit"))
     return None
+
+
+@cache
+def header_words(role: str) -> frozenset[str]:
+    """Words of one role in ``locales/unit_header_words.txt`` (case folded)."""
+    return frozenset(w.casefold() for w in load_entries("unit_header_words").get(role, ()))
+
+
+def _minimum_not_minute(header: str, token: str, start: int) -> bool:
+    """Whether a last word "min" is the minimum: no other word of the header is about time
+    (``minute-context`` in ``locales/unit_header_words.txt``)."""
+    if token.casefold() != "min":
+        return False
+    words = re.findall(r"[^\W\d_]+", header[:start].casefold())
+    cues = header_words("minute-context")
+    return not any(word.startswith(cue) or word.endswith(cue)
+                   for word in words for cue in cues)
+
+
+def clock_hour_header(header: HeaderUnit | None) -> bool:
+    """Whether a header's unit is a last word naming the hour in the singular ("peak_hour"),
+    which over whole numbers 0-23 is an hour of the day (``hour-of-day``)."""
+    return header is not None and header.token.casefold() in header_words("hour-of-day") \
+        and header.reading.units == frozenset({"h"})
 
 
 # The literal text of a workbook number format: quoted ('0.0" kg"') or escaped ('0\ \k\g')
