@@ -47,6 +47,23 @@ def write(tmp_path: Path, name: str, text: str) -> Path:
     return path
 
 
+ROADS = [[], ["--chunk-rows", "1000"], ["--dask"]]   # whole file, streamed, Dask
+
+
+def apply_on(tmp_path: Path, source: Path, mode: list[str]) -> tuple[dict, list[str]]:
+    """``harmonize apply`` on one file by one road: the report and the output's lines."""
+    from click.testing import CliRunner
+
+    from harmonize.cli import main
+    if mode == ["--dask"]:
+        pytest.importorskip("dask.dataframe")
+    out = tmp_path / "out"
+    result = CliRunner().invoke(main, ["apply", str(source), "--out", str(out), "-q", *mode])
+    assert result.exit_code == 0, result.output
+    report = json.loads((out / "harmonize-report.json").read_text("utf-8"))
+    return report, (out / source.name).read_text("utf-8").splitlines()
+
+
 def test_title_lines_and_a_source_note_are_set_aside(tmp_path: Path) -> None:
     (table,) = read_tables(write(tmp_path, "crates.csv", TITLED))
     assert table.column_names == ["Depot", "Date", "Crates", "Weight"]
@@ -59,25 +76,15 @@ def test_title_lines_and_a_source_note_are_set_aside(tmp_path: Path) -> None:
     assert any("'Source: depot ledger, exported by hand'" in n for n in table.warnings)
 
 
-@pytest.mark.parametrize("mode", [[], ["--chunk-rows", "1000"], ["--dask"]])
+@pytest.mark.parametrize("mode", ROADS)
 def test_whole_streamed_and_dask_runs_agree_on_rows(tmp_path: Path, mode: list[str]) -> None:
-    from click.testing import CliRunner
-
-    from harmonize.cli import main
-    if mode == ["--dask"]:
-        pytest.importorskip("dask.dataframe")
-    source = write(tmp_path, "crates.csv", TITLED)
-    out = tmp_path / "out"
-    result = CliRunner().invoke(main, ["apply", str(source), "--out", str(out), "-q", *mode])
-    assert result.exit_code == 0, result.output
-    report = json.loads((out / "harmonize-report.json").read_text("utf-8"))
+    report, lines = apply_on(tmp_path, write(tmp_path, "crates.csv", TITLED), mode)
     (entry,) = report["files"]
     assert entry["header_row"] == line_of(TITLED, "Depot;")
     assert entry["rows"] == 5
     assert len(entry["warnings"]) == 2
     (cell,) = report["unresolved"]
     assert cell["value"] == "1.204" and cell["row"] == line_of(TITLED, "East;")
-    lines = (out / "crates.csv").read_text("utf-8").splitlines()
     assert lines[0] == "Depot,Date,Crates,Weight (kg)"
     assert lines[1] == "North,2024-05-02,12,3500"   # 3,5 t = 3500 kg (SI Brochure: t = 1000 kg)
     assert lines[-1].startswith("Total,")
@@ -200,18 +207,9 @@ def test_a_table_separated_by_runs_of_spaces_is_split_into_its_columns(tmp_path:
     assert table.dialect is not None and table.dialect.delimiter == " "
 
 
-@pytest.mark.parametrize("mode", [[], ["--chunk-rows", "1000"], ["--dask"]])
+@pytest.mark.parametrize("mode", ROADS)
 def test_every_road_splits_a_spaced_table_alike(tmp_path: Path, mode: list[str]) -> None:
-    from click.testing import CliRunner
-
-    from harmonize.cli import main
-    if mode == ["--dask"]:
-        pytest.importorskip("dask.dataframe")
-    source = write(tmp_path, "crates.txt", SPACED)
-    out = tmp_path / "out"
-    result = CliRunner().invoke(main, ["apply", str(source), "--out", str(out), "-q", *mode])
-    assert result.exit_code == 0, result.output
-    lines = (out / "crates.txt").read_text("utf-8").splitlines()
+    _, lines = apply_on(tmp_path, write(tmp_path, "crates.txt", SPACED), mode)
     assert lines[0].split(",")[:2] == ["depot", "crates"]
     assert lines[1].split(",")[:2] == ["north", "12"] and len(lines) == 4
 
@@ -236,23 +234,13 @@ UNITS_ROW = ("Depot;Weight;Price;Temp\n"
              "East;4;3,10;50\n")
 
 
-@pytest.mark.parametrize("mode", [[], ["--chunk-rows", "1000"], ["--dask"]])
+@pytest.mark.parametrize("mode", ROADS)
 def test_a_row_of_units_joins_the_header(tmp_path: Path, mode: list[str]) -> None:
-    from click.testing import CliRunner
-
-    from harmonize.cli import main
-    if mode == ["--dask"]:
-        pytest.importorskip("dask.dataframe")
-    source = write(tmp_path, "crates.csv", UNITS_ROW)
-    out = tmp_path / "out"
-    result = CliRunner().invoke(main, ["apply", str(source), "--out", str(out), "-q", *mode])
-    assert result.exit_code == 0, result.output
-    report = json.loads((out / "harmonize-report.json").read_text("utf-8"))
+    report, lines = apply_on(tmp_path, write(tmp_path, "crates.csv", UNITS_ROW), mode)
     (entry,) = report["files"]
     assert entry["header_row"] == 2 and entry["rows"] == 3
     names = [c["name"] for c in entry["columns"]]
     assert names == ["Depot", "Weight (lb)", "Price (EUR)", "Temp (°F)"]
-    lines = (out / "crates.csv").read_text("utf-8").splitlines()
     assert lines[0] == "Depot,Weight (kg),Price (EUR),Temp (°C)"
     # NIST SP 811 (B.8): 1 lb = 0.45359237 kg, so 10 lb = 4.5359237 kg; t/°C = (t/°F - 32)/1.8
     assert lines[1] == "North,4.5359237,12.5,5"
