@@ -73,9 +73,13 @@ def territory_in_name(file: str) -> str | None:
     return None
 
 
+BRANCH_DIGITS = 4   # a branch code's number is short; "DE 123 456 789" is a tax number
+
+
 def _label_territory(label: str) -> str | None:
     found = territory_of(label)
-    if found is None and len(label) > 3 and label[2] in "-_ /" and label[:2].isalpha():
+    if (found is None and len(label) > 3 and label[2] in "-_ /" and label[:2].isalpha()
+            and sum(c.isdigit() for c in label[3:]) <= BRANCH_DIGITS):
         found = territory_of(label[:2])  # branch codes such as "DE-04"
     return found
 

@@ -104,6 +104,7 @@ class TableEvidence:
     sheet: str | None
     n_rows: int
     columns: list[ColumnEvidence]
+    date1904: bool = False   # a workbook counting serial days from 1904 (its flag)
 
     @classmethod
     def from_frame(cls, frame: pd.DataFrame, file: str = "<frame>", sheet: str | None = None,

@@ -88,8 +88,10 @@ def evidence_of(table: Table, name: str) -> TableEvidence:
                    for i, (label, c) in enumerate(zip(table.column_names, table.coded))]
         return TableEvidence(file=name, sheet=table.sheet, n_rows=table.n_rows,
                              columns=columns)
-    return TableEvidence.from_frame(table.frame, file=name, sheet=table.sheet,
-                                    typed=table.typed, formats=table.formats)
+    found = TableEvidence.from_frame(table.frame, file=name, sheet=table.sheet,
+                                     typed=table.typed, formats=table.formats)
+    found.date1904 = table.date1904
+    return found
 
 
 def harmonize_table(table: Table, name: str, options: Options, plan: Plan | None,

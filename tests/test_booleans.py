@@ -34,6 +34,8 @@ def convert_all(values: list[str], header: str = "col") -> dict[str, str]:
     ("ja", "nein"), ("oui", "non"), ("sí", "no"), ("Si", "No"), ("sim", "não"), ("ja", "nee"),
     ("tak", "nie"), ("vero", "falso"), ("ja", "nej"), ("kyllä", "ei"), ("ano", "ne"),
     ("✓", "✗"), ("✔", "✘"), ("☑", "☐"), ("✓", "x"), ("J", "N"), ("O", "N"), ("S", "N"),
+    ("да", "нет"), ("так", "ні"), ("ναι", "όχι"), ("はい", "いいえ"), ("是", "否"),
+    ("예", "아니요"), ("☒", "☐"),   # ☒ U+2612: a ticked box in form exports
 ])
 def test_language_pairs_read_as_true_and_false(yes: str, no: str) -> None:
     out = convert_all([yes, no, yes, f" {yes.upper()} ", no.lower() + "."])

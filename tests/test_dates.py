@@ -295,7 +295,7 @@ class TestForms:
         result = ENGINE.convert([text], {**BASE, "order": "DMY"})
         assert result.outcome[0] == Outcome.MISSING and result.reasons[0] == "sentinel date"
 
-    @pytest.mark.parametrize("text", ["03/2024", "14 March", "hello", "12:75", "1.2.3"])
+    @pytest.mark.parametrize("text", ["03/24", "14 March", "hello", "12:75", "1.2.3", "13/2024"])
     def test_unreadable(self, text: str) -> None:
         result = ENGINE.convert([text], {**BASE, "order": "DMY"})
         assert result.outcome[0] == Outcome.UNRESOLVED and result.reasons[0]

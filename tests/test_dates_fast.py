@@ -26,7 +26,7 @@ from hypothesis import strategies as st
 from harmonize.context import Context
 from harmonize.engines import dates_convert, dates_fast, dates_table
 from harmonize.engines.base import Converted, Outcome
-from harmonize.engines.dates import DateEngine, Settings, _convert_one
+from harmonize.engines.dates import DateEngine, Settings, _convert_one, finish_column
 from harmonize.engines.dates_fast import Scan, ordinal_days, real_day, scan
 from harmonize.engines.dates_parse import parse
 from harmonize.evidence import TableEvidence
@@ -206,7 +206,7 @@ def slow_convert(values: list[str], convention: dict) -> Converted:
     s = Settings.of(convention)
     for i, raw in enumerate(values):
         _convert_one(result, i, raw, s)
-    return result
+    return finish_column(result, s)
 
 
 def assert_same_conversion(values: list[str], convention: dict) -> None:

@@ -14,7 +14,14 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 
 from harmonize.context import Context
-from harmonize.engines.identifiers import _CODE, IdentifierEngine, header_names_code, is_code
+from harmonize.engines.identifiers import (
+    _CODE,
+    IdentifierEngine,
+    gtin_valid,
+    header_names_code,
+    iban_valid,
+    is_code,
+)
 from harmonize.evidence import TableEvidence
 
 ALPHABET = "Ab09 -_/.#\t\n\u00a0é٣:"
@@ -60,3 +67,56 @@ def test_two_digit_measurements_under_a_plain_header_are_not_codes() -> None:
     values = ["89", "88", "90", "87", "93", "89", "86", "72", "79", "80", "82", "91"]
     table = TableEvidence.from_frame(pd.DataFrame({"ACIDCONC": values}))
     assert IdentifierEngine().propose(table.columns[0], Context(table, None)) is None
+
+
+# ---------------------------------------------------------------- check digits
+
+# GTINs printed as examples with their check digit (GS1 General Specifications and the
+# widely reproduced EAN-13 example; from memory)
+GTINS = ["4006381333931", "0012345678905", "5901234123457", "96385074", "00012345600012"]
+# IBAN examples of ISO 13616 / the SWIFT IBAN registry (from memory), with and without
+# the print form's groups of four
+IBANS = ["GB82 WEST 1234 5698 7654 32", "DE89370400440532013000", "FR1420041010050500013M02606",
+         "NL91 ABNA 0417 1643 00"]
+
+
+def propose(values: list[str], header: str):
+    table = TableEvidence.from_frame(pd.DataFrame({header: values}))
+    return IdentifierEngine().propose(table.columns[0], Context(table))
+
+
+def test_published_examples_pass_their_check() -> None:
+    for gtin in GTINS:
+        assert gtin_valid([gtin]).tolist() == [True], gtin
+    assert all(iban_valid(iban) for iban in IBANS)
+
+
+@settings(max_examples=200, deadline=None)
+@given(st.sampled_from(GTINS + IBANS), st.data())
+def test_one_changed_digit_breaks_the_check(code: str, data) -> None:
+    # both schemes detect every single-digit substitution (GS1 mod 10; ISO 7064 MOD 97-10)
+    places = [i for i, ch in enumerate(code) if ch.isdigit()]
+    at = data.draw(st.sampled_from(places))
+    digit = data.draw(st.sampled_from([d for d in "0123456789" if d != code[at]]))
+    changed = code[:at] + digit + code[at + 1:]
+    valid = gtin_valid([changed])[0] if changed.isdigit() else iban_valid(changed)
+    assert not valid
+
+
+@pytest.mark.parametrize("header", ["Article", "Item", "Product"])
+def test_gtins_are_identifiers_whatever_the_header(header: str) -> None:
+    decision = propose(GTINS, header)
+    assert decision is not None and decision.kind == "identifier"
+    assert any("GS1" in line for line in decision.evidence)
+
+
+def test_ibans_are_identifiers_whatever_the_header() -> None:
+    decision = propose(IBANS, "Payee")
+    assert decision is not None and decision.kind == "identifier" and decision.fit == 1.0
+
+
+def test_numbers_that_fail_the_check_are_not_claimed_for_it() -> None:
+    # amounts of 13 digits: one in ten passes GS1 by chance, not all of them
+    amounts = ["4006381333932", "1234567890123", "5901234123450", "9000000000001",
+               "7700000000002"]
+    assert propose(amounts, "Article") is None

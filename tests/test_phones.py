@@ -348,3 +348,90 @@ def test_plans_survive_the_plan_file(with_engines) -> None:
     for a, b in zip(first.columns, again.columns, strict=True):
         assert a.text.tolist() == b.text.tolist(), a.plan.name
         assert a.outcome.tolist() == b.outcome.tolist(), a.plan.name
+
+
+# ---------------------------------------------------------------- a lost "+"
+
+def _e164(region: str, kind=pn.PhoneNumberType.MOBILE) -> str:
+    # phonenumbers' own example numbers (checkvalues.md A4) as the reference
+    return pn.format_number(pn.example_number_for_type(region, kind), pn.PhoneNumberFormat.E164)
+
+
+def test_workbook_numbers_that_lost_their_plus_read_as_international() -> None:
+    # ITU-T E.164: an international number is the country code then the national number;
+    # a workbook number cell keeps the digits and loses the "+"
+    expected = [_e164(r) for r in ("IT", "DE", "GB", "FR")]
+    written = [e[1:] for e in expected]
+    table = TableEvidence.from_frame(pd.DataFrame({"Mobile": written}),
+                                     typed={"Mobile": dict.fromkeys(written, "number")})
+    decision = ENGINE.propose(table.column("Mobile"), Context(table, Options()))
+    assert decision.convention["bare_calling_codes"] == sorted(
+        pn.parse(e).country_code for e in expected)
+    assert [t for t, _, _ in apply(table, decision, "Mobile")] == expected
+    assert decision.confidence < 0.99   # the "+" is inferred
+
+
+def test_bare_digits_read_with_a_code_the_column_writes_with_plus() -> None:
+    italian = [_e164("IT"), _e164("IT", pn.PhoneNumberType.FIXED_LINE)]
+    german = _e164("DE")
+    values = [italian[0][1:], italian[1][1:], "+39 347 123 4569", german[1:]]
+    table, decision = decide(pd.DataFrame({"Mobile": values}), column="Mobile")
+    assert decision.convention["bare_calling_codes"] == [39]
+    rows = apply(table, decision, "Mobile")
+    assert [t for t, _, _ in rows[:2]] == italian
+    assert rows[3][1] == Outcome.UNRESOLVED   # +49 is written nowhere: not guessed
+
+
+def test_national_numbers_are_not_read_as_a_lost_plus() -> None:
+    # "(201) 555-0123" and "2015550123" are US national numbers (phonenumbers' example);
+    # with "+" put first they would be valid Egyptian numbers: never read so
+    egyptian = pn.parse("+2015550123")
+    assert pn.is_valid_number(egyptian) and pn.region_code_for_number(egyptian) == "EG"
+    values = ["(201) 555-0123", "2015550124", "+20 2 34567890", "+1 201-555-0125"]
+    table, decision = decide(pd.DataFrame({"Phone": values}))
+    rows = apply(table, decision)
+    assert [o for _, o, _ in rows[:2]] == [Outcome.UNRESOLVED] * 2
+
+
+def test_digits_that_happen_to_follow_a_country_code_are_not_read_so() -> None:
+    # two numbers invalid in France that a "+" would make Egyptian and South African
+    # (phonenumbers example numbers): the column writes neither code, so they are listed
+    national = ["01 23 45 67 89", "06 12 34 56 78", "01 42 68 53 00", "04 72 10 30 30"]
+    stray = [_e164("EG", pn.PhoneNumberType.FIXED_LINE)[1:],
+             _e164("ZA", pn.PhoneNumberType.FIXED_LINE)[1:]]
+    assert not any(pn.is_valid_number(pn.parse(s, "FR")) for s in stray)
+    table, decision = decide(pd.DataFrame({"Phone": national + stray}), default_region="FR")
+    assert decision.convention["bare_calling_codes"] == []
+    rows = apply(table, decision)
+    assert [o for _, o, _ in rows[-2:]] == [Outcome.UNRESOLVED] * 2
+
+
+def test_a_code_the_column_states_reads_without_its_plus() -> None:
+    stated = [_e164("EG", pn.PhoneNumberType.MOBILE), _e164("ZA", pn.PhoneNumberType.MOBILE)]
+    stray = [_e164("EG", pn.PhoneNumberType.FIXED_LINE), _e164("ZA", pn.PhoneNumberType
+                                                              .FIXED_LINE)]
+    values = ["01 23 45 67 89", "06 12 34 56 78", *stated, *(s[1:] for s in stray)]
+    table, decision = decide(pd.DataFrame({"Phone": values}), default_region="FR")
+    assert decision.convention["bare_calling_codes"] == [20, 27]
+    assert [t for t, _, _ in apply(table, decision)][-2:] == stray
+
+
+def test_a_lost_plus_needs_a_valid_number_behind_it() -> None:
+    # "0121 ..." has no country code (none starts with 0): listed, as before
+    reading = read_phone("01212345678", None, ("00", "011"), frozenset({44}))
+    assert reading.e164 is None and reading.reason.startswith("no region")
+
+
+@pytest.mark.parametrize(("text", "region", "base"), [
+    ("030 1234567 App. 12", "DE", "030 1234567"),        # Apparat (de)
+    ("030 1234567 Nst. 12", "DE", "030 1234567"),        # Nebenstelle (de)
+    ("030 1234567 Durchwahl 12", "DE", "030 1234567"),
+    ("212 345 678 linka 12", "CZ", "212 345 678"),       # linka (cs)
+    ("01 23 45 67 89 poste 12", "FR", "01 23 45 67 89"),
+])
+def test_extension_words_of_other_languages(text: str, region: str, base: str) -> None:
+    # the words are common practice (no source); the number is phonenumbers' reading of
+    # the base, the extension written in RFC 3966 §5.1.5 form
+    e164 = pn.format_number(pn.parse(base, region), pn.PhoneNumberFormat.E164)
+    table, decision = decide(pd.DataFrame({"Phone": [text, base]}), default_region=region)
+    assert [t for t, _, _ in apply(table, decision)] == [f"{e164};ext=12", e164]

@@ -74,3 +74,13 @@ def test_country_column_is_offered_as_context() -> None:
     assert split is not None and split.column == "Land"
     assert dict(zip(split.labels, split.territories, strict=True)) == {
         "Deutschland": "DE", "France": "FR", "UK": "GB", "España": "ES"}
+
+
+def test_branch_codes_name_their_country_and_tax_numbers_do_not() -> None:
+    # ISO 3166-1 alpha-2 prefixes: "DE-04" is a German branch; an EU VAT number starts
+    # with its member state's code ("DE 123 456 789", Council Directive 2006/112/EC
+    # art. 215, from memory) but names a taxpayer, not the row's country
+    from harmonize.context import _label_territory
+    assert _label_territory("DE-04") == "DE" and _label_territory("FR_PARIS") == "FR"
+    assert _label_territory("DE 123 456 789") is None
+    assert _label_territory("FR 40 303 265 045") is None

@@ -72,12 +72,73 @@ def test_cleaning(raw: str, clean: str) -> None:
 
 
 def test_canonical_is_most_frequent_then_diacritics_then_case_style() -> None:
-    out = outputs(["Valmorèz"] * 2 + ["VALMOREZ"] * 5 + ["Brévaux-les-Ormes", "Brevaux les Ormes",
-                                                          "Quenbury", "Ostwehl"])
-    assert out["Valmorèz"][0] == "VALMOREZ"               # most frequent wins
+    out = outputs(["Marlowe Green"] * 2 + ["Marlowe green"] * 5 + ["Brévaux-les-Ormes",
+                                                                  "Brevaux les Ormes",
+                                                                  "Quenbury", "Ostwehl"])
+    assert out["Marlowe Green"][0] == "Marlowe green"     # most frequent wins
     assert out["Brevaux les Ormes"][0] == "Brévaux-les-Ormes"  # tie: diacritics win
-    out = outputs(["Quenbury Hill", "QUENBURY HILL", "Ostwehl", "Harrowdene", "Lindmere"])
-    assert out["QUENBURY HILL"][0] == "Quenbury Hill"      # tie: prevailing title case
+    out = outputs(["Quenbury Hill", "Quenbury hill", "Ostwehl", "Harrowdene", "Lindmere"])
+    assert out["Quenbury hill"][0] == "Quenbury Hill"      # tie: prevailing title case
+
+
+def _without_accents(text: str) -> str:
+    # UAX #15: NFD splits a letter from its combining marks (category Mn), dropped here
+    return "".join(ch for ch in unicodedata.normalize("NFD", text)
+                   if unicodedata.category(ch) != "Mn")
+
+
+@pytest.mark.parametrize(("written", "rewrite"), [
+    # Python's Unicode case mappings (str.upper, str.title) and accents dropped after NFD
+    # lose what the written form says: the form they are made from is the canonical one,
+    # however many cells are written the lossy way
+    ("Valmorèz", lambda w: _without_accents(w).upper()),
+    ("Valmorèz", _without_accents),
+    ("van der Berg", str.title),
+    ("van der Berg", str.upper),
+    ("McDonald", str.title),
+    ("O'Neill", lambda w: w.replace("'", "")),
+    ("Müller", _without_accents),
+    ("de la Cruz", str.title),
+])
+def test_canonical_is_never_a_lossy_rewrite(written: str, rewrite) -> None:
+    lossy = rewrite(written)
+    assert lossy != written
+    out = outputs([written] + [lossy] * 4 + ["Quenbury", "Ostwehl"])
+    assert out[lossy] == (written, Outcome.CONVERTED)
+    assert out[written] == (written, Outcome.PASSED)
+
+
+def test_an_acronym_in_capitals_is_not_a_rewrite() -> None:
+    out = outputs(["BMW"] * 3 + ["Bmw", "Quenbury", "Ostwehl"])
+    assert out["Bmw"][0] == "BMW"   # three capitals: an acronym, most frequent wins
+    out = outputs(["GALA"] * 3 + ["Gala", "Quenbury", "Ostwehl"])
+    assert out["GALA"][0] == "Gala"   # a word in capitals is shouted
+
+
+@pytest.mark.parametrize(("mixed", "plain"), [
+    ("Gal\u0430", "Gala"),          # U+0430 CYRILLIC SMALL LETTER A in a Latin word
+    ("\u0420ink Lady", "Pink Lady"),  # U+0420 CYRILLIC CAPITAL LETTER ER
+    ("Fuj\u0456", "Fuji"),          # U+0456 CYRILLIC SMALL LETTER BYELORUSSIAN-UKRAINIAN I
+    ("M\u043e\u0441\u043a\u0432\u0430", "\u041c\u043e\u0441\u043a\u0432\u0430"),  # Latin M
+    ("E\u03bb\u03bb\u03ac\u03b4\u03b1", "\u0395\u03bb\u03bb\u03ac\u03b4\u03b1"),  # Latin E
+])
+def test_look_alike_letters_take_the_words_script(mixed: str, plain: str) -> None:
+    # Unicode TS #39 confusables (pairs from memory): each letter below is drawn like its
+    # twin; unicodedata names the scripts
+    assert normalise(mixed) == plain
+    assert {unicodedata.name(ch).split()[0] for ch in plain if ch.isalpha()} in (
+        {"LATIN"}, {"CYRILLIC"}, {"GREEK"})
+    out = outputs([plain, plain, mixed, "Quenbury", "Ostwehl"])
+    assert out[mixed] == (plain, Outcome.CONVERTED)
+
+
+@pytest.mark.parametrize("kept", [
+    "\u0416uk",                      # Ж has no Latin look-alike: two scripts meant
+    "\u041e\u041e\u041e Romashka",      # whole words in one script each
+    "Caf\u00e9",                     # Latin with an accent: one script
+])
+def test_words_of_one_script_or_without_look_alikes_stay(kept: str) -> None:
+    assert normalise(kept) == kept
 
 
 def test_unchanged_values_pass_and_rewritten_ones_are_converted() -> None:

@@ -1,7 +1,9 @@
 """Dates, date-times and times, normalised to ISO 8601.
 
 Output: dates ``YYYY-MM-DD``; date-times ``YYYY-MM-DDTHH:MM:SS[.f][±HH:MM]`` (the offset
-only when the value carries one; ``Z`` becomes ``+00:00``); times ``HH:MM:SS``.
+only when the value carries one; ``Z`` becomes ``+00:00``); times ``HH:MM:SS``; a month of
+a year written without a day ("May 2024", "05/2024" under a month or date header) as
+``YYYY-MM``, no day made up.
 
 The order of numeric dates such as ``03/04/2024`` is decided per column (or per group of
 rows, e.g. per country) from evidence: values only one order allows, workbook number
@@ -13,7 +15,8 @@ Convention keys (plain values; edit them in a plan file):
 ``order``           "DMY", "MDY", "YMD" or null: the order of numeric dates whose shape
                     does not fix it (ISO dates and month names fix their own). null: a
                     value whose readings differ is listed as unresolved.
-``candidates``      orders considered when ``order`` is null, e.g. ["DMY", "MDY"].
+``candidates``      orders considered when ``order`` is null, e.g. ["DMY", "MDY"]; YMD
+                    too where two-digit years may come first (``dates_decide``).
 ``likely_order``    the most probable order when undecided; only gives the "best" reading
                     of listed cells, never converts them.
 ``order_shapes``    null (``order`` covers every numeric date), or way of writing -> order,
@@ -26,7 +29,10 @@ Convention keys (plain values; edit them in a plan file):
                     240403; never seven digits), "serial1900" / "serial1904" (spreadsheet serial
                     days, ECMA-376), "unix_seconds", "unix_milliseconds".
 ``kind``            "date", "datetime" or "time": serial and epoch values of a datetime
-                    column keep their time of day.
+                    column keep their time of day. In a "date" column a time of exactly
+                    00:00:00 without an offset is storage, not information (dates kept
+                    as date-times, a workbook date under a date-and-time format): the
+                    value is written as a date (``dates_kind``).
 ``zone_offsets``    zone abbreviation -> "+HH:MM" that a person has settled (e.g.
                     {"CET": "+01:00"}); other abbreviations leave the cell unresolved.
 ``sentinels``       ISO dates that stand for "no date" (reported as missing).
@@ -47,6 +53,7 @@ from harmonize.engines.base import Converted, Decision, GroupRule, Outcome
 from harmonize.engines.dates_convert import SENTINELS, Settings, fast_convert
 from harmonize.engines.dates_decide import (
     LR_LOCALE,
+    LR_SPREAD,
     LR_STATED,
     LR_TERRITORY,
     NAMES,
@@ -55,12 +62,16 @@ from harmonize.engines.dates_decide import (
     decide,
     format_hints,
     templates,
+    year_first_spread,
 )
-from harmonize.engines.dates_numbers import NumbersMode, numbers_mode
+from harmonize.engines.dates_fast import SEPARATORS
+from harmonize.engines.dates_kind import column_kind, drop_midnights, undated_cells
+from harmonize.engines.dates_numbers import OTHER_DATES, NumbersMode, numbers_mode
 from harmonize.engines.dates_parse import (
     BAD,
     DIGITS,
     FIXED,
+    MONTH,
     OPEN,
     ORDERS,
     ORDINAL,
@@ -71,13 +82,21 @@ from harmonize.engines.dates_parse import (
     Parsed,
     compact_parse,
     digits_reading,
+    month_text,
     parse,
     reading,
     render,
 )
 from harmonize.engines.dates_table import FORMS, DateTable
-from harmonize.engines.dates_words import locale_order, territory_order
+from harmonize.engines.dates_words import (
+    header_says_date,
+    header_says_duration,
+    header_says_month,
+    locale_order,
+    territory_order,
+)
 from harmonize.engines.grouping import GroupSplit, explaining_split
+from harmonize.engines.identifiers import header_names_code
 from harmonize.evidence import ColumnEvidence
 
 MIN_SHARE = 0.5            # below this share of readable cells the column is not ours
@@ -92,6 +111,7 @@ class _Column:
     table: DateTable
     counts: np.ndarray
     numbers: str | None
+    year_first: str | None = None   # why two-digit year first is a live reading, if it is
 
     @property
     def total(self) -> int:
@@ -114,15 +134,20 @@ class DateEngine:
     # ------------------------------------------------------------ propose
 
     def propose(self, column: ColumnEvidence, context: Context) -> Decision | None:
-        if column.total == 0 or "version" in column.name.casefold():
+        if column.total == 0 or "version" in column.name.casefold() or _names_a_code(column):
             return None
-        col, mode = _read_column(column)
+        col, mode = _read_column(column, context.table.date1904)
         year_from = date.today().year - (context.options.year_window - 1)
         orders = _candidate_orders(col, context, year_from)
-        fit = col.share(_is_read(col.table, orders, year_from) | _numbers_read(col.table, mode))
+        months = _months_read(col, column.name)
+        fit = col.share(_is_read(col.table, orders, year_from) | months
+                        | _numbers_read(col.table, mode))
         if fit < MIN_SHARE:
             return None
-        kind = _kind(col, mode)
+        kind, midnights = column_kind(col.table, col.counts, col.numbers, mode.with_time,
+                                      column.values)
+        if kind == "time" and header_says_duration(column.name):
+            return None   # '1:30' under 'Duration' is an hour and a half, not half past one
         convention: dict[str, Any] = {
             "order": None, "candidates": list(orders), "likely_order": None,
             "order_shapes": None, "year_from": year_from, "numbers": mode.mode, "kind": kind,
@@ -137,6 +162,10 @@ class DateEngine:
             evidence.append(f"{len(column.typed)} distinct values are typed date cells")
         _two_digit_note(col, year_from, context, details)
         _zone_note(col, convention, details)
+        _time_note(col, kind, midnights, evidence, details)
+        if months.any():
+            evidence.append(f"{int(col.counts[months].sum())} cells name a month of a year "
+                            f"without a day: written YYYY-MM (ISO 8601, a calendar month)")
         return Decision(kind=kind, engine=self.name, fit=round(fit, 6),
                         confidence=round(min(0.999, kind_p * order_p), 4),
                         convention=convention, groups=groups, evidence=tuple(evidence),
@@ -163,7 +192,7 @@ class DateEngine:
                                       evidence, details, country)
             if grouped is not None:
                 return grouped
-        hints = _column_hints(column, context, orders)
+        hints = _spread_hint(col, _column_hints(column, context, orders))
         verdict = decide(col.table, col.counts, orders, year_from, hints, column.codes)
         evidence.extend(verdict.evidence)
         if verdict.mixed:
@@ -209,7 +238,7 @@ class DateEngine:
                                           strict=True):
             if not part.total:
                 continue
-            hints = _group_hints(territory, matches, orders)
+            hints = _spread_hint(col, _group_hints(territory, matches, orders))
             verdict = decide(col.table.take(rows_of(part)), part.counts, orders, year_from,
                              hints, part.codes)
             conventions[label] = {"order": verdict.order, "order_shapes": verdict.shapes,
@@ -262,16 +291,24 @@ class DateEngine:
             result.outcome[done] = Outcome.CONVERTED
         for i in np.flatnonzero(~done).tolist():   # the others, one by one
             _convert_one(result, i, values[i], settings)
-        return result
+        return finish_column(result, settings)
 
 
 # ---------------------------------------------------------------- propose helpers
 
-def _read_column(column: ColumnEvidence) -> tuple[_Column, NumbersMode]:
+def _names_a_code(column: ColumnEvidence) -> bool:
+    """A header naming a code and no date ('Ref', 'Batch', 'Invoice no'), over cells no
+    workbook types as dates: '03.04.05' there is a reference, kept as written."""
+    return (header_names_code(column.name) and not header_says_date(column.name)
+            and not any(tag in ("date", "datetime") for tag in column.typed.values()))
+
+
+def _read_column(column: ColumnEvidence, date1904: bool = False
+                 ) -> tuple[_Column, NumbersMode]:
     """Every distinct value read once (``dates_table``), with the column's reading of bare
-    numbers applied."""
+    numbers applied (``date1904``: the workbook counts serial days in the 1904 system)."""
     table = DateTable.read(column.values)
-    mode = numbers_mode(column, table)
+    mode = numbers_mode(column, table, date1904)
     if mode.mode == "compact":
         table = table.compact()
     return _Column(table, column.counts, mode.mode), mode
@@ -305,6 +342,27 @@ def _is_read(table: DateTable, orders: Sequence[str], year_from: int) -> np.ndar
     return read
 
 
+def _months_read(col: _Column, header: str) -> np.ndarray:
+    """The months of a year the column reads as such. 'May 2024' and '2024-05' (ISO 8601)
+    say so themselves; '05/2024' may be an invoice number, so it needs a header naming a
+    date or a period, or written dates beside it."""
+    table = col.table
+    rows = np.flatnonzero(table.of(MONTH))
+    read = np.zeros(len(table), dtype=bool)
+    if not len(rows):
+        return read
+    year, month = table.parts[rows, 0], table.parts[rows, 1]
+    real = (month >= 1) & (month <= 12) & (year >= 1)
+    named = table.sep[rows] == SEPARATORS.index("")
+    iso = (table.sep[rows] == SEPARATORS.index("-")) & (table.widths[rows, 0] == 4) & (
+        table.widths[rows, 1] == 2)
+    dated = table.has_date & ~table.of(MONTH)
+    vouched = (header_says_date(header) or header_says_month(header)
+               or col.share(dated) >= OTHER_DATES)
+    read[rows] = real & (named | iso | vouched)
+    return read
+
+
 def _numbers_read(table: DateTable, mode: NumbersMode) -> np.ndarray:
     read = np.zeros(len(table), dtype=bool)
     if mode.mode is not None:
@@ -314,7 +372,8 @@ def _numbers_read(table: DateTable, mode: NumbersMode) -> np.ndarray:
 
 
 def _candidate_orders(col: _Column, context: Context, year_from: int) -> list[str]:
-    """DMY and MDY; YMD too where two-digit-year values or a hint make it a live reading."""
+    """DMY and MDY; YMD too where two-digit-year values or a hint make it a live reading,
+    or where the values' spread does (then ``col.year_first`` says why)."""
     options = context.options
     stated = {options.date_order, locale_order(options.locale) if options.locale else None,
               context.options.for_engine("dates").get("order")}
@@ -324,18 +383,19 @@ def _candidate_orders(col: _Column, context: Context, year_from: int) -> list[st
     above = col.table.take(np.flatnonzero(col.table.of(OPEN) & (col.table.parts[:, 0] > 31)))
     valid = above.admitted(ORDERS, year_from)
     only_ymd = (valid["YMD"] & ~valid["DMY"] & ~valid["MDY"]).any()
-    return list(ORDERS) if ("YMD" in stated or compact or only_ymd) else ["DMY", "MDY"]
+    if "YMD" in stated or compact or only_ymd:
+        return list(ORDERS)
+    col.year_first = year_first_spread(col.table, year_from)
+    return list(ORDERS) if col.year_first else ["DMY", "MDY"]
 
 
-def _kind(col: _Column, mode) -> str:
-    if col.numbers in ("unix_seconds", "unix_milliseconds") or mode.with_time:
-        return "datetime"
-    timed = col.table.timed
-    dated = col.table.has_date | col.table.of(DIGITS)
-    n_dated = col.counts[dated].sum()
-    if n_dated == 0 and timed.any():
-        return "time"
-    return "datetime" if col.counts[timed & dated].sum() * 2 >= max(n_dated, 1) else "date"
+def _spread_hint(col: _Column, hints: Hints) -> Hints:
+    """Year first as a prior where the values' spread makes it live; a country's short
+    date pattern (day or month first) then does not decide between them."""
+    if col.year_first:
+        hints.add("YMD", LR_SPREAD, col.year_first)
+        hints.territory = None
+    return hints
 
 
 def _form_counts(col: _Column) -> dict[str, int]:
@@ -470,6 +530,18 @@ def _short_year(table: DateTable) -> bool:
                 .any()) if is_open.any() else False
 
 
+def _time_note(col: _Column, kind: str, midnights: int, evidence: list[str],
+               details: dict[str, Any]) -> None:
+    """Say what became of times that carry nothing, and of dates without a time."""
+    if midnights:
+        evidence.append(f"{midnights} cells carry the time 00:00:00 and no value another "
+                        f"time of day: dates stored as date-times, written as dates")
+    elif kind == "datetime" and (undated := undated_cells(col.table, col.counts)):
+        details["dates_without_time"] = (
+            f"{undated} cells give a date without a time of day; they are written as "
+            f"dates (YYYY-MM-DD), no time is made up for them")
+
+
 def _zone_note(col: _Column, convention: Mapping[str, Any], details: dict[str, Any]) -> None:
     zones = Counter(p.clock.zone for p in col.table.records() if p.clock and p.clock.zone)
     if zones:
@@ -479,6 +551,14 @@ def _zone_note(col: _Column, convention: Mapping[str, Any], details: dict[str, A
 
 
 # ---------------------------------------------------------------- convert helpers
+
+def finish_column(result: Converted, s: Settings) -> Converted:
+    """What applies to the column's values once each is read, whichever path read it: a
+    date column writes its stored midnights as dates (``dates_kind``)."""
+    if s.kind == "date":
+        drop_midnights(result)
+    return result
+
 
 def _convert_one(result: Converted, i: int, raw: str, s: Settings) -> None:
     p = parse(raw)
@@ -499,12 +579,24 @@ def _convert_one(result: Converted, i: int, raw: str, s: Settings) -> None:
         _finish(result, i, None, p.clock, s)
     elif p.form == OPEN:
         _convert_open(result, i, p, s)
+    elif p.form == MONTH:
+        _convert_month(result, i, p, s)
     else:
         found = reading(p, None, s.year_from)
         if found is None:
             result.unresolved(i, _impossible(p))
         else:
             _finish(result, i, found, p.clock, s)
+
+
+def _convert_month(result: Converted, i: int, p: Parsed, s: Settings) -> None:
+    text = month_text(p)
+    if s.kind == "time":
+        result.unresolved(i, "a month in a column of times")
+    elif text is None:
+        result.unresolved(i, f"impossible month: no month {p.parts[1]} in a year")
+    else:
+        result.set(i, text)
 
 
 def _convert_open(result: Converted, i: int, p: Parsed, s: Settings) -> None:
@@ -539,8 +631,9 @@ def _convert_open(result: Converted, i: int, p: Parsed, s: Settings) -> None:
         if all(t in s.sentinels for t in (d.isoformat() for d in distinct)):
             _missing(result, i)
             return
+        fields = "day, month and year" if "YMD" in s.candidates else "day and month"
         result.unresolved(
-            i, "day and month cannot be told apart: its readings differ and no value, row "
+            i, f"{fields} cannot be told apart: its readings differ and no value, row "
                "order or hint in the data decides the column's order; a country column or a "
                "stated order (options date_order, or 'order' in the plan) would decide it",
             candidates=texts, best=render(best, p.clock) if best else None)

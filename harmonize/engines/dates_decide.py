@@ -53,6 +53,14 @@ CALENDAR_STEPS = (1, 2, 3, 6, 12)  # months between the same day of the month: a
 BROKEN_STEPS = 2       # out-of-sequence steps under one reading, none to speak of under the
 BROKEN_RATIO = 4       # other (this many times fewer): the other reading keeps the sequence
 NAMES = {"DMY": "day first", "MDY": "month first", "YMD": "year first"}
+# Two-digit year first (YY-MM-DD, a truncated form of ISO 8601:2000 and the CLDR short
+# pattern yy/MM/dd of a few locales) beside day first: read day first, values written
+# that way would name at most SPREAD_DAYS days of the month across SPREAD_YEARS or more
+# years, while year first reads them as days of one or two years. Common practice, no
+# source: a column of dates spans a period, it does not revisit one day across decades.
+SPREAD_YEARS = 10
+SPREAD_DAYS = 2
+LR_SPREAD = 8.0        # a prior for year first, as row order is: never decides alone
 
 
 OUTLIER_RATIO = 8       # one value against this many distinct ones that agree is a slip
@@ -153,6 +161,26 @@ def decide(table: DateTable, counts: np.ndarray, orders: Sequence[str], year_fro
             probability *= OUTLIER_DOUBT   # a slip, or a second convention barely seen
     return Verdict(order, leading, probability, dict(decisive), dict(contradicted),
                    ambiguous, notes, mixed, shapes, strays)
+
+
+def year_first_spread(table: DateTable, year_from: int) -> str | None:
+    """Why two-digit year first is a live reading of the open values written with three
+    two-digit numbers (see SPREAD_YEARS), or None when it is not."""
+    widths = table.widths
+    rows = np.flatnonzero(table.of(OPEN) & (widths[:, 0] == 2) & (widths[:, 1] <= 2)
+                          & (widths[:, 2] == 2))
+    if len(rows) < SPREAD_YEARS:
+        return None
+    part = table.take(rows)
+    if not part.admitted(("YMD",), year_from)["YMD"].all():
+        return None
+    firsts, thirds = np.unique(part.parts[:, 0]), np.unique(part.parts[:, 2])
+    if len(firsts) > SPREAD_DAYS or len(thirds) < SPREAD_YEARS:
+        return None
+    return (f"read day or month first, {len(rows)} values written with two-digit numbers "
+            f"would fall on {len(firsts)} day(s) of the month across {len(thirds)} years; "
+            f"read year first (YY-MM-DD) they span {len(firsts)} year(s): year first is "
+            f"as live a reading, and no country decides between them")
 
 
 def _decisive(single: np.ndarray, valid: dict[str, np.ndarray], counts: np.ndarray,

@@ -9,11 +9,21 @@ Eight-digit strings that are all valid ISO 8601 basic dates (D1) are the one exc
 
 from __future__ import annotations
 
+import re
 from dataclasses import dataclass, field
+from datetime import date
 
 import numpy as np
 
-from harmonize.engines.dates_parse import BAD, DIGITS, ORDERS, compact_parse, reading
+from harmonize.engines.dates_parse import (
+    BAD,
+    DIGITS,
+    EXCEL_1900,
+    EXCEL_1904,
+    ORDERS,
+    compact_parse,
+    reading,
+)
 from harmonize.engines.dates_table import DateTable
 from harmonize.engines.dates_words import header_says_date
 from harmonize.evidence import ColumnEvidence
@@ -25,6 +35,8 @@ EPOCH_MILLIS = (EPOCH_SECONDS[0] * 1000, EPOCH_SECONDS[1] * 1000)
 COMPACT_YEARS = (1900, 2099)
 OTHER_DATES = 0.2      # share of cells that are written dates, making numbers dates too
 MIN_COMPACT = 5        # distinct eight-digit dates needed without a header
+YEAR_DAYS = 365        # the 1904 system must put the numbers a year closer to the dates
+_ISO_DAY = re.compile(r"\d{4}-\d{2}-\d{2}")
 
 
 @dataclass
@@ -38,8 +50,10 @@ class NumbersMode:
         return self.mode is not None and _in_range(text, self.mode)
 
 
-def numbers_mode(column: ColumnEvidence, table: DateTable) -> NumbersMode:
-    """The reading of the column's bare numbers, or NumbersMode() when they stay numbers."""
+def numbers_mode(column: ColumnEvidence, table: DateTable, date1904: bool = False
+                 ) -> NumbersMode:
+    """The reading of the column's bare numbers, or NumbersMode() when they stay numbers.
+    ``date1904``: the workbook flags the 1904 date system, which its serials then follow."""
     counts = column.counts
     is_digits = table.of(DIGITS)
     if not is_digits.any():
@@ -61,9 +75,36 @@ def numbers_mode(column: ColumnEvidence, table: DateTable) -> NumbersMode:
         if all(_in_range(t, mode) for t in texts):
             timed = mode != "serial1900" or any("." in t for t in texts)
             lo, hi = min(texts, key=float), max(texts, key=float)
-            return NumbersMode(mode, 0.97 if header and other else 0.93, timed,
-                               [f"{why}; its numbers {lo}-{hi} read as {label}"])
+            found = NumbersMode(mode, 0.97 if header and other else 0.93, timed,
+                                [f"{why}; its numbers {lo}-{hi} read as {label}"])
+            if mode != "serial1900":
+                return found
+            if date1904:   # ECMA-376 Part 4 §3.17.4.1: <workbookPr date1904="1"/>
+                return NumbersMode("serial1904", found.confidence, found.with_time, [
+                    f"{why}; its numbers {lo}-{hi} read as spreadsheet serial day numbers "
+                    "in the 1904 system, which the workbook declares"])
+            return _date_system(found, texts, column)
     return NumbersMode()
+
+
+def _date_system(found: NumbersMode, texts: list[str], column: ColumnEvidence) -> NumbersMode:
+    """Serial numbers beside the workbook's own date cells: the 1904 system (ECMA-376
+    Part 4 §3.17.4.1, D18; 1462 days after the 1900 system, D19) when it puts the numbers
+    among those dates and the 1900 system four years away from them."""
+    typed = [date.fromisoformat(v[:10]).toordinal() for v, tag in column.typed.items()
+             if tag in ("date", "datetime") and _ISO_DAY.match(v)]
+    if not typed:
+        return found
+    middle = float(np.median(typed))
+    serial = float(np.median([int(t.partition(".")[0]) for t in texts]))
+    by_1900 = abs(EXCEL_1900.toordinal() + serial - middle)
+    by_1904 = abs(EXCEL_1904.toordinal() + serial - middle)
+    if by_1904 + YEAR_DAYS > by_1900:
+        return found
+    return NumbersMode("serial1904", found.confidence, found.with_time, [
+        *found.evidence, f"read in the 1900 system they would fall {round(by_1900 / 365.25, 1)} "
+                         f"years from the column's date cells; in the 1904 system (a Mac "
+                         f"workbook's) among them: the 1904 system"])
 
 
 def _compact(texts: list[str], hinted: bool, why: str) -> NumbersMode | None:

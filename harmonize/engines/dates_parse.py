@@ -22,6 +22,7 @@ from harmonize.engines.dates_words import (
     ordinal_pattern,
     period_table,
     weekday_table,
+    word_clock_pattern,
     word_list,
 )
 
@@ -32,6 +33,9 @@ FIXED = "fixed"      # calendar date whose field order the shape fixes: parts = 
 OPEN = "open"        # numeric date whose order is a column decision: parts = (a, b, c)
 WEEK = "week"        # ISO 8601 week date: parts = (year, week, weekday)
 ORDINAL = "ordinal"  # ISO 8601 ordinal date: parts = (year, day of year)
+MONTH = "month"      # a month of a year, no day: parts = (year, month); widths in the
+                     # order written ((4, 2) for 2024-05, (2, 4) for 05/2024); sep "" for
+                     # a month name
 TIME = "time"        # a time of day alone
 DIGITS = "digits"    # a bare number: a date only if the column says so (serial, epoch, 20240403)
 ZERO = "zero"        # all components zero (0000-00-00): a sentinel, not a date
@@ -82,12 +86,14 @@ _WEEK = re.compile(r"(\d{4})-?[Ww](\d{2})-?([1-7])")
 _ORDINAL = re.compile(r"(\d{4})-(\d{3})")
 _DIGITS = re.compile(r"\d+(?:[.,]\d+)?")
 _NUMERIC = re.compile(r"(\d{1,4})([/.\- ])(\d{1,4})\2(\d{1,4})\.?")
-_PAIR = re.compile(r"(\d{1,4})[/.\-](\d{1,4})\.?")
+_PAIR = re.compile(r"(\d{1,4})([/.\-])(\d{1,4})\.?")
 _CLOCK = re.compile(r"(?<![\d:])(\d{1,2}):(\d{2})(?::(\d{2})(?:[.,](\d{1,9}))?)?(?![\d:])"
                     r"|(?<![\d:])(\d{1,2})[hH](\d{2})(?![\d:])")
 _HOUR_PERIOD = re.compile(r"(?<![\d:./-])(\d{1,2}) ?([ap]\.? ?m\.?)(?![^\W\d_])", re.IGNORECASE)
 _OFFSET_TAIL = re.compile(r"(?:\b(?:utc|gmt|ut) ?)?([+-])(\d{1,2})(?::?(\d{2}))?$", re.IGNORECASE)
 _WORD_TAIL = re.compile(r"([^\W\d_]+)$")
+_LAST_WORD = re.compile(r"([^\W\d_][^\s\d]*)\s*$")
+_TRAILING_YEAR = re.compile(r"(.*?)\s*(?<!\d)(\d{4})\s*")
 _TRAILING_T = re.compile(r"(?<=\d)[Tt]\s*$")
 _TOKENS = re.compile(r"\d+|[^\W\d_]+(?:-[^\W\d_]+)*")   # 'quarta-feira' is one word
 # Year, month and day marked by 年月日 (ja, zh) or 년월일 (ko): CLDR long patterns
@@ -133,6 +139,8 @@ def parse(raw: str) -> Parsed:
         found, clock = _with_dotted_clock(text, found)
     if found.form == BAD or clock is None:
         return found
+    if found.form == MONTH:
+        return bad("a time of day beside a month without a day")
     return Parsed(found.form, found.parts, found.widths, clock, found.weekday, sep=found.sep)
 
 
@@ -218,13 +226,19 @@ def _split_clock(text: str) -> tuple[str, Clock | str | None]:
     else:
         m = _HOUR_PERIOD.search(text)
         if not m:
-            return text, None
+            return _word_clock(text)
         h, mi, s, frac = m[1], "00", None, None
         tail = m[2] + text[m.end():]
         before = text[:m.start()]
     period, offset, zone, problem = _read_tail(tail)
+    year = _TRAILING_YEAR.fullmatch(tail) if problem else None
+    if year:   # 'Thu May 02 14:30:00 CEST 2024' (C asctime, a zone between): the year
+        period, offset, zone, problem = _read_tail(year[1])   # goes with the date
+        before = f"{before} {year[2]}"
     if problem:
         return text, problem
+    if period is None and 1 <= int(h) <= 12:   # '오후 2:30', '上午 6:43' (CLDR ko, zh_Hant)
+        before, period = _leading_period(before)
     hour = int(h)
     if period:
         if not 1 <= hour <= 12 and not (hour == 0 and period == "am"):
@@ -234,6 +248,26 @@ def _split_clock(text: str) -> tuple[str, Clock | str | None]:
     if isinstance(clock, Clock) and zone:
         clock = Clock(clock.hour, clock.minute, clock.second, clock.fraction, clock.offset, zone)
     return before, clock
+
+
+def _leading_period(before: str) -> tuple[str, str | None]:
+    """An am/pm word written just before the time, taken out of the text before it."""
+    m = _LAST_WORD.search(before)
+    if m and len(fold_period(m[1])) > 1 and not is_filler(fold_word(m[1])):
+        period = period_table().get(fold_period(m[1]))   # not 'a' nor 'am' ('am 3. Mai')
+        if period:
+            return before[:m.start()], period
+    return before, None
+
+
+def _word_clock(text: str) -> tuple[str, Clock | str | None]:
+    """A time of day a word marks ('14.30 Uhr', 'klo 14.30'), taken out of the text."""
+    m = word_clock_pattern().search(text)
+    if not m:
+        return text, None
+    h, mi, s = (m[1], m[2], m[3]) if m[1] is not None else (m[4], m[5], m[6])
+    rest = (text[:m.start()] + " " + text[m.end():]).strip()
+    return rest, _clock_from(h, mi or "00", s, None, None)
 
 
 def _read_tail(tail: str) -> tuple[str | None, str | None, str | None, str | None]:
@@ -269,14 +303,20 @@ def _read_date_text(text: str) -> Parsed:
         return _numeric(m[1], m[3], m[4], m[2])
     m = _PAIR.fullmatch(text)
     if m:
-        return bad(_pair_reason(m[1], m[2]))
+        return _pair(m[1], m[3], m[2])
     return _read_words(ordinal_pattern().sub(r"\1", text))
 
 
-def _pair_reason(first: str, second: str) -> str:
+def _pair(first: str, second: str, sep: str) -> Parsed:
+    """Two numbers: a month of a year when one has four digits ('05/2024', '2024-05'),
+    else a day and a month whose year is missing."""
+    if len(first) == 4 and len(second) <= 2:
+        return Parsed(MONTH, (int(first), int(second)), (4, len(second)), sep=sep)
+    if len(second) == 4 and len(first) <= 2:
+        return Parsed(MONTH, (int(second), int(first)), (len(first), 4), sep=sep)
     if len(first) == 4 or len(second) == 4:
-        return "month and year without a day"
-    return "day and month without a year"
+        return bad("not a date: a component has too many digits")
+    return bad("day and month without a year")
 
 
 def _numeric(a: str, b: str, c: str, sep: str = " ") -> Parsed:
@@ -335,8 +375,11 @@ def _with_month_name(month: int, at: int, numbers: list[tuple[int, str]],
     if len(years) + len(short) != len(numbers) or len(years) > 1:
         return bad("a number beside the month name is neither a day nor a year")
     if years:
+        if not short and weekday is None:   # 'May 2024', 'mai 2024'
+            return Parsed(MONTH, (int(years[0]), month), (2, 4), sep="")
         if len(short) != 1:
-            return bad("month and year without a day" if not short else "two day numbers")
+            return bad("a weekday beside a month without a day" if not short
+                       else "two day numbers")
         return Parsed(FIXED, (int(years[0]), month, int(short[0][1])), (4, 2, 2), weekday=weekday)
     if len(short) == 1:
         return bad("day and month without a year")
@@ -418,6 +461,13 @@ def plausible_under(p: Parsed, order: str) -> bool:
     """Whether an OPEN value fits ``order`` by ranges alone (day 1-31, month 1-12)."""
     fields = fields_under(p, order)
     return fields is not None and 1 <= fields[1] <= 12 and 1 <= fields[2] <= 31
+
+
+def month_text(p: Parsed) -> str | None:
+    """'YYYY-MM' (ISO 8601 reduced precision, a calendar month) of a MONTH value, or None
+    when there is no such month."""
+    year, month = p.parts
+    return f"{year:04d}-{month:02d}" if 1 <= month <= 12 and 1 <= year <= 9999 else None
 
 
 def render(day: date, clock: Clock | None) -> str:

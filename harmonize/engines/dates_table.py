@@ -20,6 +20,7 @@ from harmonize.engines.dates_parse import (
     BAD,
     DIGITS,
     FIXED,
+    MONTH,
     OPEN,
     ORDINAL,
     TIME,
@@ -31,9 +32,9 @@ from harmonize.engines.dates_parse import (
     reading,
 )
 
-FORMS = (FIXED, OPEN, WEEK, ORDINAL, TIME, DIGITS, ZERO, BAD)   # index = form code
+FORMS = (FIXED, OPEN, WEEK, ORDINAL, MONTH, TIME, DIGITS, ZERO, BAD)   # index = form code
 CODE = {form: code for code, form in enumerate(FORMS)}
-DATED = (FIXED, OPEN, WEEK, ORDINAL)
+DATED = (FIXED, OPEN, WEEK, ORDINAL, MONTH)
 ORDERS = ("DMY", "MDY", "YMD")
 
 
@@ -106,7 +107,8 @@ class DateTable:
 
     @property
     def has_date(self) -> np.ndarray:
-        return self.form <= CODE[ORDINAL]   # FORMS lists the dated forms first
+        """A calendar date, or a month of a year (FORMS lists these forms first)."""
+        return self.form <= CODE[MONTH]
 
     def records(self) -> list[Parsed]:
         """The parser's records (values not read in bulk)."""

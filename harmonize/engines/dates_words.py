@@ -15,7 +15,10 @@ from harmonize.locales import load_entries
 
 # Languages whose month, weekday and am/pm names are read (CLDR via babel).
 LANGUAGES = ("en", "de", "fr", "es", "it", "nl", "pt", "sv", "da", "nb", "fi", "pl", "cs",
-             "ca", "ro", "hu", "tr", "ja", "zh", "ko")
+             "ca", "ro", "hu", "tr", "ja", "zh", "ko", "sk", "sl", "sr_Latn", "lt", "lv", "et",
+             "el", "ru", "uk", "bg", "id", "is", "gl", "eu")
+# Croatian is left out: its "srp" (July), "lis" and "listopad" (October) are Czech
+# August and November, and a name two languages give two months is read as neither.
 
 _DOTS_AND_SPACES = re.compile(r"[.\s\u00a0\u202f]+")
 
@@ -88,6 +91,30 @@ def ordinal_pattern() -> re.Pattern[str]:
     suffixes = sorted(word_list("ordinal"), key=len, reverse=True)
     alternatives = "|".join(re.escape(s) for s in suffixes)
     return re.compile(rf"\b(\d{{1,2}})(?:{alternatives})(?![^\W\d_])", re.IGNORECASE)
+
+
+@cache
+def word_clock_pattern() -> re.Pattern[str]:
+    """A time of day marked by a word ('14.30 Uhr', '14 Uhr', 'klo 14.30'): groups
+    hour, minute, second (before the word) then hour, minute, second (after it)."""
+    after = "|".join(re.escape(w) for w in sorted(word_list("clock_after")))
+    before = "|".join(re.escape(w) for w in sorted(word_list("clock_before")))
+    clock = r"(\d{1,2})(?:[.:](\d{2})(?:[.:](\d{2}))?)?"
+    return re.compile(rf"(?<![\d.:]){clock}\s*(?:{after})(?![^\W\d_])"
+                      rf"|(?<![^\W\d_])(?:{before})\.?\s*{clock}(?![\d.:])", re.IGNORECASE)
+
+
+@cache
+def header_says_month(header: str) -> bool:
+    """Whether a column header names months or periods ('Month', 'Periodo', 'Monat')."""
+    return any(w in word_list("month_header")
+               for w in re.findall(r"[^\W\d_]+", header.casefold()))
+
+
+@cache
+def header_says_duration(header: str) -> bool:
+    """Whether a column header names lengths of time ('Duration', 'Dauer (h:mm)')."""
+    return any(w in word_list("duration") for w in re.findall(r"[^\W\d_]+", header.casefold()))
 
 
 @cache

@@ -3,8 +3,10 @@
 Customer numbers with leading zeros, fixed-width article codes, postal codes, digit
 strings too long for a float: converting any of these to a number destroys them. The
 engine claims a column when its values are codes and something shows they are not
-quantities: a leading zero, a digit string too long to be an amount, or a header that
-names a code together with a fixed width. Values are passed through as written.
+quantities: a leading zero, a digit string too long to be an amount, a header that
+names a code together with a fixed width, or check digits that hold: GTIN/EAN/UPC numbers
+(GS1 mod 10) and IBANs (ISO 13616, ISO 7064 MOD 97-10). Values are passed through as
+written.
 """
 
 from __future__ import annotations
@@ -38,6 +40,12 @@ _HEADER = re.compile(
 # letters inside an upper-case word ("ACIDCONC", "PAID", "VALID")
 _CAMEL_ID = re.compile(r"(?:(?<=[a-z])|^)ID(?=$|[^A-Za-z]|[A-Z][a-z]|s\b)")
 LONG_DIGITS = 16   # more digits than a float keeps exactly (IEEE 754 double: 15-17)
+GTIN_LENGTHS = (8, 12, 13, 14)   # GTIN-8, UPC-A (GTIN-12), EAN-13, GTIN-14
+CHECKED_SAMPLE = 5000   # distinct values whose check digits are worked out
+CHECKED_SHARE = 0.95    # share of cells whose check digits must hold ...
+MIN_GTINS = 4           # ... over this many distinct numbers (a random one passes 1 in 10)
+MIN_IBANS = 2           # ... or IBANs (a random one passes 1 in 97)
+_IBAN = re.compile(r"^[A-Z]{2}\d{2}[A-Z0-9]{11,30}$")
 
 
 def header_names_code(header: str) -> bool:
@@ -93,6 +101,54 @@ def _shape(column: ColumnEvidence) -> dict[str, float]:
     }
 
 
+def gtin_valid(digits: Sequence[str]) -> np.ndarray:
+    """GS1 check digit per digit string of one length (GS1 General Specifications, the
+    mod 10 rule: from the right, the digits before the check digit weigh 3, 1, 3, ...;
+    the check digit brings the sum to a multiple of ten)."""
+    if not len(digits):
+        return np.zeros(0, dtype=bool)
+    width = len(digits[0])
+    matrix = np.frombuffer("".join(digits).encode("ascii"), dtype=np.uint8).reshape(
+        len(digits), width).astype(np.int64) - ord("0")
+    weights = np.where(np.arange(width - 1)[::-1] % 2 == 0, 3, 1)
+    check = (10 - (matrix[:, :-1] @ weights) % 10) % 10
+    return check == matrix[:, -1]
+
+
+def iban_valid(text: str) -> bool:
+    """ISO 13616: two letters, two check digits, the account; moved to the end and
+    letters read as 10-35, the whole is 1 modulo 97 (ISO 7064 MOD 97-10)."""
+    compact = text.replace(" ", "").upper()
+    if not _IBAN.match(compact):
+        return False
+    moved = compact[4:] + compact[:4]
+    return int("".join(str(int(ch, 36)) for ch in moved)) % 97 == 1
+
+
+def _check_digits(column: ColumnEvidence) -> str | None:
+    """Why the column's values are GTINs or IBANs by their check digits, or None."""
+    values = np.asarray([v.strip() for v in column.values[:CHECKED_SAMPLE].tolist()],
+                        dtype=object)
+    weights = column.counts[:CHECKED_SAMPLE].astype(float)
+    total = max(weights.sum(), 1.0)
+    lengths = np.fromiter(map(len, values), dtype=np.int64, count=len(values))
+    digits = np.fromiter((v.isascii() and v.isdigit() for v in values), dtype=bool,
+                         count=len(values))
+    passed = np.zeros(len(values), dtype=bool)
+    for width in GTIN_LENGTHS:
+        rows = np.flatnonzero(digits & (lengths == width))
+        passed[rows] = gtin_valid(values[rows].tolist())
+    if passed.sum() >= MIN_GTINS and weights[passed].sum() / total >= CHECKED_SHARE:
+        return (f"{weights[passed].sum() / total:.0%} of cells are GTIN/EAN/UPC numbers "
+                f"whose GS1 check digit holds")
+    ibans = np.fromiter((not d and iban_valid(v) for v, d in zip(values, digits, strict=True)),
+                        dtype=bool, count=len(values))
+    if ibans.sum() >= MIN_IBANS and weights[ibans].sum() / total >= CHECKED_SHARE:
+        return (f"{weights[ibans].sum() / total:.0%} of cells are IBANs whose ISO 13616 "
+                f"check digits hold")
+    return None
+
+
 class IdentifierEngine:
     name: ClassVar[str] = "identifiers"
 
@@ -110,6 +166,9 @@ class IdentifierEngine:
         if named and shape["fixed"] >= 0.95 and shape["digits"] >= 0.5:
             evidence.append(f"the header names a code and digit values have a fixed width "
                             f"of {int(shape['width'])}")
+        checked = _check_digits(column) if shape["code"] >= CHECKED_SHARE else None
+        if checked:
+            evidence.append(checked)
         if named and shape["lettered"] >= 0.9:
             evidence.append("the header names a code and values are letter-digit codes")
         elif named and shape["code"] >= 0.9 and shape["digits"] < 0.5:
@@ -117,7 +176,7 @@ class IdentifierEngine:
                             "such as postcodes")
         if not evidence:
             return None
-        confidence = 0.98 if len(evidence) > 1 or shape["lead0"] > 0.05 else 0.95
+        confidence = 0.98 if len(evidence) > 1 or shape["lead0"] > 0.05 or checked else 0.95
         return Decision(kind="identifier", engine=self.name, fit=float(shape["code"]),
                         confidence=confidence, convention={"trim": True},
                         evidence=tuple(evidence))

@@ -10,6 +10,13 @@ Convention keys (a person may edit them in a plan file):
                            region (default ``["00", "011"]``: "0044 ..." in a US row).
 ``extensions``             ``"keep"`` writes an extension in RFC 3966 form
                            (``+441212345678;ext=12``); ``"drop"`` leaves it out.
+``bare_calling_codes``     country calling codes (e.g. ``[39, 49]``) that a number written
+                           as bare digits may begin with, its "+" lost ("393471234567", a
+                           workbook number cell): such a number that does not read in its
+                           region (or has none) is read as if "+" came first, when that is
+                           a valid number with one of these codes. The engine lists the
+                           codes the column writes with "+" and those of workbook number
+                           cells of 11 digits or more; default none.
 
 Only numbers that phonenumbers finds *valid* (in an assigned number range, not merely of a
 possible length) are converted. Invalid, impossible and region-less numbers, and spreadsheet
@@ -41,6 +48,12 @@ DEFAULT_PREFIXES = ("00", "011")
 E164_MAX_DIGITS = 15          # ITU-T E.164: country code + national number, "+" excluded
 SAMPLE_PAIRS = 6000           # distinct (value, region) pairs parsed to judge a column
 HEADER_ALONE_SHARE = 0.5      # phone-shaped share a phone header needs
+BARE_CODE_CELLS = 2           # cells that must read with a lost "+" before the rule is set
+LOST_PLUS_DOUBT = 0.1         # confidence given up per share of cells read that way
+# Digits that lost their "+": a workbook number cell, or digits in groups. A national
+# number's own marks ("(201) 555-0123", "0121 ...") are no such thing.
+BARE_DIGITS = re.compile(r"^[1-9][\d ]*\d$")
+TYPED_MIN_DIGITS = 11   # a workbook number this long is no national number (US: 10 digits)
 VALID_SHARE_NO_HEADER = 0.6   # valid share a column needs when its header says nothing
 
 _INVISIBLE = dict.fromkeys(map(ord, "\u200b\u200c\u200d\u2060\ufeff\u00ad"))
@@ -107,8 +120,10 @@ def is_phone_shaped(text: str) -> bool:
 
 @lru_cache(maxsize=1 << 18)
 def read_phone(raw: str, region: str | None,
-               prefixes: tuple[str, ...] = DEFAULT_PREFIXES) -> PhoneReading:
-    """Parse one value in one region (cached: values repeat across groups and calls)."""
+               prefixes: tuple[str, ...] = DEFAULT_PREFIXES,
+               bare_codes: frozenset[int] = frozenset()) -> PhoneReading:
+    """Parse one value in one region (cached: values repeat across groups and calls);
+    ``bare_codes``: calling codes a number of bare digits may begin with, its "+" lost."""
     text = clean(raw)
     if FLOAT_RENDERING.match(text):
         return PhoneReading(None, None, "spreadsheet number rendering: leading zeros and '+' "
@@ -127,11 +142,24 @@ def read_phone(raw: str, region: str | None,
             alternative = _parse("+" + digits_start[len(prefixed):], None)
             if alternative.e164 is not None:
                 return alternative
+        if reading.e164 is None and bare_codes and not prefixed:
+            return _lost_plus(text, bare_codes) or reading
         return reading
     if prefixed:
         return _parse("+" + digits_start[len(prefixed):], None)
+    if bare_codes and (alternative := _lost_plus(text, bare_codes)):
+        return alternative
     return PhoneReading(None, None, "no region: the number has no international prefix and "
                                     "the row names no country; give a default region")
+
+
+def _lost_plus(text: str, codes: frozenset[int]) -> PhoneReading | None:
+    """The reading of bare digits with "+" put first, when it is valid and begins with one
+    of ``codes``."""
+    if not BARE_DIGITS.match(text):
+        return None
+    reading = _parse("+" + text.replace(" ", ""), None)
+    return reading if reading.e164 is not None and reading.calling_code in codes else None
 
 
 def _parse(text: str, region: str | None) -> PhoneReading:
@@ -224,6 +252,16 @@ class PhoneEngine:
         if not header and _shaped_share(values, weights) < VALID_SHARE_NO_HEADER:
             return None  # cheap test first: most cells of a phone column look like phones
         survey = _survey(values, regions, weights, prefixes)
+        bare_codes = lost_plus_codes(column, survey)
+        lost_plus = 0.0
+        if bare_codes and (survey.regionless or survey.invalid_national):
+            before = survey.valid
+            with_codes = _survey(values, regions, weights, prefixes, bare_codes)
+            lost_plus = with_codes.valid - before
+            if lost_plus >= BARE_CODE_CELLS:
+                survey = with_codes
+        if lost_plus < BARE_CODE_CELLS:
+            bare_codes, lost_plus = frozenset(), 0.0
         share_valid = survey.valid / survey.total
         read = survey.valid + survey.shaped + survey.floats
         if header:
@@ -238,14 +276,24 @@ class PhoneEngine:
                 return None
             fit = (read - survey.bare_digits_valid) / survey.total
         convention = {"region": default, "international_prefixes": list(prefixes),
-                      "extensions": str(options.get("extensions", "keep"))}
+                      "extensions": str(options.get("extensions", "keep")),
+                      "bare_calling_codes": sorted(bare_codes)}
         groups = _group_rule(split, default) if split is not None else None
         confidence = self._confidence(header, share_valid, read / survey.total, survey)
         suggestion = _suggested_region(survey, default)
+        evidence = self._evidence(column, header, survey, split, suggestion, region_note)
+        if lost_plus:
+            share = lost_plus / survey.total
+            # the "+" is inferred, not written: a little less sure
+            confidence = round(max(0.05, confidence - LOST_PLUS_DOUBT * share), 3)
+            listed = ", ".join(f"+{c}" for c in sorted(bare_codes))
+            evidence.append(f"{share:.1%} of cells are bare digits that read in no region, "
+                            f"yet each is a valid number once '+' is put first, with a "
+                            f"calling code the column writes elsewhere or a workbook number "
+                            f"cell shows ({listed}): read as international numbers")
         return Decision(kind="phone", engine=self.name, fit=min(1.0, round(fit, 6)),
                         confidence=confidence, convention=convention, groups=groups,
-                        evidence=tuple(self._evidence(column, header, survey, split, suggestion,
-                                                      region_note)),
+                        evidence=tuple(evidence),
                         details=self._details(survey, split, groups, default, suggestion))
 
     @staticmethod
@@ -315,14 +363,31 @@ class PhoneEngine:
         prefixes = tuple(str(p) for p in convention.get("international_prefixes",
                                                          DEFAULT_PREFIXES))
         extensions = str(convention.get("extensions", "keep"))
+        bare_codes = frozenset(int(c) for c in convention.get("bare_calling_codes") or ())
         result = Converted.empty(len(values))
         for i, raw in enumerate(values):
-            reading = read_phone(raw, region, prefixes)
+            reading = read_phone(raw, region, prefixes, bare_codes)
             if reading.e164 is None:
-                result.unresolved(i, reading.reason or "not a valid number")
+                _unresolved(result, i, raw, reading)
             else:
                 result.set(i, render(reading, extensions), Outcome.CONVERTED)
         return result
+
+
+def _unresolved(result: Converted, i: int, raw: str, reading: PhoneReading) -> None:
+    """List a value; bare digits that are a valid number once "+" is put first offer that
+    reading (a calling code the column does not vouch for: never applied unasked)."""
+    why = reading.reason or "not a valid number"
+    text = clean(raw)
+    if BARE_DIGITS.match(text):
+        plus = _parse("+" + text.replace(" ", ""), None)
+        if plus.e164 is not None:
+            result.unresolved(i, f"{why}; with '+' first it would be {plus.e164}, if the "
+                                 f"'+' was lost (add {plus.calling_code} to "
+                                 f"bare_calling_codes in the plan to read it so)",
+                              candidates=[plus.e164])
+            return
+    result.unresolved(i, why)
 
 
 def _any_digits(values: np.ndarray) -> bool:
@@ -390,10 +455,10 @@ def _pairs(column: ColumnEvidence, split: Split | None,
 
 
 def _survey(values: list[str], regions: list[str | None], weights: np.ndarray,
-            prefixes: tuple[str, ...]) -> _Survey:
+            prefixes: tuple[str, ...], bare_codes: frozenset[int] = frozenset()) -> _Survey:
     survey = _Survey(total=float(weights.sum()), codes=Counter())
     for value, region, weight in zip(values, regions, weights.tolist(), strict=True):
-        reading = read_phone(value, region, prefixes)
+        reading = read_phone(value, region, prefixes, bare_codes)
         written = value.lstrip(" (").lower().startswith(("+", "tel:+", *prefixes))
         if reading.e164 is not None and written and survey.codes is not None:
             survey.codes[reading.calling_code or 0] += weight  # codes the numbers state
@@ -411,3 +476,17 @@ def _survey(values: list[str], regions: list[str | None], weights: np.ndarray,
             elif not value.lstrip().startswith(("+", "00")):
                 survey.invalid_national += weight
     return survey
+
+
+def lost_plus_codes(column: ColumnEvidence, survey: _Survey) -> frozenset[int]:
+    """Calling codes a bare number of this column may begin with: those its numbers write
+    with "+" or a prefix, and those of workbook number cells too long to be national."""
+    codes = {code for code, weight in (survey.codes or {}).items() if code and weight}
+    for value, tag in column.typed.items():
+        digits = clean(value)
+        if tag == "number" and digits.isdigit() and len(digits) >= TYPED_MIN_DIGITS:
+            reading = _parse("+" + digits, None)
+            if reading.e164 is not None and reading.calling_code:
+                codes.add(reading.calling_code)
+    return frozenset(codes)
+

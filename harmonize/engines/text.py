@@ -2,10 +2,15 @@
 
 Every value is cleaned: Unicode normalisation form C (UAX #15), zero-width characters
 removed, every kind of space (U+00A0, U+202F, tabs ...) made a plain space, runs of spaces
-collapsed, ends trimmed. Values that are equal once case, spacing, accents and punctuation
-are folded away ("Saint-Étienne", "saint etienne", "SAINT-ETIENNE") form a *variant group*
-and are all written as one canonical spelling: the group's most frequent form, ties going
-to the form with diacritics, then to the column's prevailing case style.
+collapsed, ends trimmed; a word mixing Latin with Cyrillic or Greek letters (a Cyrillic 'а'
+typed inside "Gala") takes its main script's letter for each look-alike (Unicode TS #39
+confusables). Values that are equal once case, spacing, accents and punctuation are folded
+away ("Saint-Étienne", "saint etienne", "SAINT-ETIENNE") form a *variant group* and are all
+written as one canonical spelling. A form that is a lossy rewrite of another form of its
+group (upper or lower case, title case of "van der Berg" or "McDonald", accents or
+apostrophes dropped) is never chosen over it: the canonical spelling is the most frequent
+of the forms left, ties going to the form with diacritics, then to the column's prevailing
+case style.
 
 Free text (long, mostly unique values such as notes) is only trimmed.
 
@@ -145,11 +150,52 @@ AS_CODES = "country names are written as ISO 3166-1 alpha-2 codes"
 
 
 def normalise_many(values: Iterable[str]) -> list[str]:
-    """NFC, invisible characters removed, white space collapsed and trimmed."""
+    """NFC, invisible characters removed, white space collapsed and trimmed, mixed-script
+    words in one script."""
     values = list(values)
-    return normalise_in_arrow(values) if len(values) >= ARROW_FROM else [
+    cleaned = normalise_in_arrow(values) if len(values) >= ARROW_FROM else [
         _SPACES.sub(" ", _INVISIBLE.sub("", unicodedata.normalize("NFC", v))).strip()
         for v in values]
+    return unmix_scripts(cleaned)
+
+
+# Look-alike letters of Cyrillic and Greek for Latin ones (Unicode TS #39 confusables; the
+# pairs are from memory, each one a letter drawn alike in common fonts).
+_CYRILLIC_LATIN = dict(zip("аеорсухіјѕԁԛԝһӏАВЕКМНОРСТХУІЈЅԚԜ",
+                           "aeopcyxijsdqwhlABEKMHOPCTXYIJSQW", strict=True))
+_GREEK_LATIN = dict(zip("οινΑΒΕΖΗΙΚΜΝΟΡΤΥΧ", "oivABEZHIKMNOPTYX", strict=True))
+_TO_LATIN = {**_CYRILLIC_LATIN, **_GREEK_LATIN}
+_FROM_LATIN = {"cyrillic": {v: k for k, v in _CYRILLIC_LATIN.items()},
+               "greek": {v: k for k, v in _GREEK_LATIN.items()}}
+_OTHER_SCRIPT = re.compile("[\u0370-\u03ff\u0400-\u052f]")
+_LATIN_LETTER = re.compile("[A-Za-z\u00c0-\u024f]")
+_WORD = re.compile(r"[^\W\d_]+")
+
+
+def unmix_scripts(values: list[str]) -> list[str]:
+    """Each word that mixes Latin with Cyrillic or Greek letters written in the script most
+    of its letters are in, where every other letter has a look-alike there ('Galа' with a
+    Cyrillic а -> 'Gala'); other words, and whole words of one script, stay."""
+    for i, value in enumerate(values):
+        if not value.isascii() and _OTHER_SCRIPT.search(value) and _LATIN_LETTER.search(value):
+            values[i] = _WORD.sub(_one_script, value)
+    return values
+
+
+def _one_script(match: re.Match[str]) -> str:
+    word = match[0]
+    latin = _LATIN_LETTER.findall(word)
+    other = _OTHER_SCRIPT.findall(word)
+    if not latin or not other or len(latin) == len(other):
+        return word
+    if len(latin) > len(other):
+        minority, table = other, _TO_LATIN
+    else:
+        greek = all(ch <= "\u03ff" for ch in other)
+        minority, table = latin, _FROM_LATIN["greek" if greek else "cyrillic"]
+    if not all(ch in table for ch in minority):
+        return word   # a letter without a look-alike: the scripts are meant
+    return word.translate(str.maketrans(table))
 
 
 def normalise_in_arrow(values: list[str]) -> list[str]:
@@ -547,13 +593,54 @@ def case_styles_in_arrow(texts: list[str]) -> np.ndarray:
 
 
 def _canonical(form_counts: Counter[str], prevailing: str) -> str:
-    """Most frequent form; ties: more diacritics, then the prevailing case style."""
+    """Most frequent of the forms no other form rewrites lossily; ties: more diacritics,
+    then the prevailing case style."""
     if len(form_counts) == 1:   # most keys are written one way only
         return next(iter(form_counts))
-    most = max(form_counts.values())
-    tied = [form for form, count in form_counts.items() if count == most]
+    forms = list(form_counts)
+    # forms rewriting each other ('Golden Delicious', 'Golden delicious'): the cased ones
+    kept = (_not_derived(forms) or [f for f in forms if not (f.isupper() or f.islower())]
+            or forms)
+    most = max(form_counts[form] for form in kept)
+    tied = [form for form in kept if form_counts[form] == most]
     return min(tied, key=lambda form: (-diacritic_count(form), case_style(form) != prevailing,
                                        form))
+
+
+ACRONYM_LETTERS = 3   # an all-capitals form this short may be an acronym (IBM, UK), not shouting
+
+
+def _not_derived(forms: list[str]) -> list[str]:
+    """The forms that are not a lossy rewrite of another form of the group."""
+    derived: set[str] = set()
+    for form in forms:
+        derived |= lossy_rewrites(form)
+    return [form for form in forms if form not in derived or (
+        form.isupper() and sum(map(str.isalpha, form)) <= ACRONYM_LETTERS)]
+
+
+def lossy_rewrites(form: str) -> set[str]:
+    """Spellings that lose what ``form`` says: upper or lower case; title case of a form
+    whose case is not already plain ('van der Berg' -> 'Van Der Berg', 'McDonald' ->
+    'Mcdonald'); accents dropped ('Müller' -> 'Muller'); apostrophes dropped ('O'Neill' ->
+    'ONeill'); and these combined. Common practice, no source."""
+    bases = {form, _strip_accents(form)}
+    bases |= {_APOSTROPHES.sub("", b) for b in bases}
+    found: set[str] = set()
+    for base in bases:
+        found |= {base, base.upper(), base.lower()}
+        if not (base.isupper() or base.islower()):
+            found |= {base.title(), " ".join(w.capitalize() for w in base.split(" ")),
+                      base.capitalize()}
+    found.discard(form)
+    return found
+
+
+_APOSTROPHES = re.compile("(?<=\\w)['\u2019](?=\\w)")
+
+
+def _strip_accents(text: str) -> str:
+    return unicodedata.normalize("NFC", _strip_marks(unicodedata.normalize("NFD", text)))
 
 
 def _variant_groups(raw: list[str], keys: list[str], counts: list[int],
