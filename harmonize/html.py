@@ -227,12 +227,14 @@ def _caution(report: Mapping[str, Any]) -> str:
 
 
 def _problems(report: Mapping[str, Any]) -> str:
+    """Files that could not be converted, then what reading the others noted (title
+    lines set aside, a row of units joined, ragged rows padded): notes, not failures."""
     errors = report.get("errors") or []
-    warnings = [(_table_title(e), w) for e in report.get("files", [])
-                for w in e.get("warnings", [])]
-    if not errors and not warnings:
+    notes = [(_table_title(e), w) for e in report.get("files", [])
+             for w in e.get("warnings", [])]
+    if not errors and not notes:
         return ""
-    parts = ['<section id="problems"><h2>Problems</h2>']
+    parts = [f'<section id="problems"><h2>{"Problems" if errors else "Reading notes"}</h2>']
     if errors:
         rows = "".join(f"<tr><td>{esc(e.get('file'))}</td><td>{esc(e.get('message'))}</td></tr>"
                        for e in errors)
@@ -240,9 +242,9 @@ def _problems(report: Mapping[str, Any]) -> str:
                      "be converted</strong> and produced no output; the other files were."
                      f"<table><thead><tr><th>file</th><th>error</th></tr></thead>"
                      f"<tbody>{rows}</tbody></table></div>")
-    if warnings:
-        items = "".join(f"<li><b>{esc(t)}</b>: {esc(w)}</li>" for t, w in warnings)
-        parts.append(f"<h3>Warnings while reading</h3><ul>{items}</ul>")
+    if notes:
+        items = "".join(f"<li><b>{esc(t)}</b>: {esc(w)}</li>" for t, w in notes)
+        parts.append(f"<h3>Noted while reading</h3><ul>{items}</ul>")
     parts.append("</section>")
     return "".join(parts)
 
@@ -543,7 +545,7 @@ def _columns(tables: list[list[ColumnRef]], files: Sequence[Mapping[str, Any]],
         parts.append(f'<section class="table" id="t{t}"><h2>{esc(_table_title(entry))}</h2>'
                      f'<p class="muted">{MIDDOT.join(meta)}</p>')
         for note in entry.get("warnings", []):
-            parts.append(f'<p class="problem">{esc(note)}</p>')
+            parts.append(f'<p class="reading-note">{esc(note)}</p>')
         for note in entry.get("drift", []):
             parts.append(f'<p class="drift-box">{esc(note)}</p>')
         parts += [_column_card(ref, with_figures, from_plan) for ref in refs]
@@ -680,7 +682,7 @@ def _subtitle(report: Mapping[str, Any], refs: list[ColumnRef]) -> str:
 def _nav(report: Mapping[str, Any], has_drift: bool, has_problems: bool) -> str:
     links = [("summary", "Summary")]
     if has_problems:
-        links.append(("problems", "Problems"))
+        links.append(("problems", "Problems" if report.get("errors") else "Reading notes"))
     if has_drift:
         links.append(("drift", "Drift"))
     links += [("overview", "Overview"), ("columns", "Columns"),

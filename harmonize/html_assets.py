@@ -40,6 +40,7 @@ margin:1rem 0;font-size:1.02rem}
 .caution strong{color:var(--warn)}
 .problem{background:#fdecec;border:2px solid #c9454b;border-left-width:8px;padding:.6rem 1rem;
 margin:1rem 0}
+.reading-note{background:#f1f4f8;border-left:6px solid #6b7a90;padding:.5rem 1rem;margin:.6rem 0}
 .drift-box{background:#fff0e6;border-left:6px solid #D55E00;padding:.6rem 1rem;margin:.6rem 0}
 .ok{color:var(--good)}
 .cards{display:flex;flex-wrap:wrap;gap:.6rem;margin:.6rem 0}

@@ -286,6 +286,16 @@ class TestPageText:
         root = parse(render_html(result.report))
         assert "Undecided cells (0)" in root.text()
 
+    def test_reading_notes_are_notes_not_problems(self, tmp_path: Path) -> None:
+        # a title line set aside is routine: the page names it, under no "Problems" heading
+        source = tmp_path / "crates.csv"
+        source.write_text("Crate report\n\nDepot;Crates\nNorth;12\nSouth;9\n", "utf-8")
+        page = render_html(harmonize.run([source], None).report)
+        root = parse(page)
+        assert "Reading notes" in root.text() and "Problems" not in root.text()
+        assert "'Crate report'" in root.text()
+        assert 'class="problem"' not in page
+
 
 class TestScale:
     def test_fifty_files_with_twenty_thousand_undecided_cells(
