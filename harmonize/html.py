@@ -37,7 +37,16 @@ OUTCOMES = figs.OUTCOMES
 DRAWN_APART = frozenset({"groups", "variant_groups", "variant_groups_total",
                          "variant_groups_note", "suggested_merges", "missing_reasons"})
 HEADLINE_KEYS = ("order", "decimal_mark", "currency", "currency_mode", "percent", "unit",
-                 "region", "languages", "mode", "numbers", "country_codes")
+                 "region", "languages", "mode", "numbers", "country_codes", "bare_percent",
+                 "soll_haben", "currency_thousands", "magnitude_words")
+# headline words for settings whose key alone says little
+SETTING_WORDS = {
+    ("bare_percent", "fraction"): "numbers without % read as fractions (0.2 = 20 %)",
+    ("bare_percent", "listed"): None,   # the usual choice: the listed cells say it
+    ("bare_percent", "points"): None,
+    ("soll_haben", True): "S/H letters read as debit/credit",
+    ("currency_thousands", True): "T before a currency read as thousands (TEUR)",
+}
 ORDER_WORDS = {"DMY": "day first", "MDY": "month first", "YMD": "year first",
                "YDM": "year, day, month"}
 MIDDOT = " \u00b7 "
@@ -144,6 +153,10 @@ def _setting(key: str, value: Any) -> str | None:
             else f"order {value}"
     if value is None or value is False or value in ("", [], {}):
         return None
+    if isinstance(value, (str, bool)) and (key, value) in SETTING_WORDS:
+        return SETTING_WORDS[(key, value)]
+    if key == "magnitude_words" and isinstance(value, Mapping):
+        return "magnitude words " + ", ".join(f"{w} = 10^{p}" for w, p in value.items())
     if key == "currency_mode" and value in ("none", "single"):
         return None  # a single currency is named by the currency key itself
     return f"{key.replace('_', ' ')} {_brief(value)}"

@@ -424,3 +424,11 @@ def _unique_colours(flat: Any) -> tuple[Any, Any]:
     packed = (flat[:, 0].astype(np.uint32) << 16) | (flat[:, 1].astype(np.uint32) << 8) \
         | flat[:, 2]
     return np.unique(packed, return_counts=True)
+
+
+def test_ledger_and_percent_settings_read_as_words() -> None:
+    # settings a reader would otherwise decode from the plan's keys
+    from harmonize.html import _setting
+    assert _setting("soll_haben", True) == "S/H letters read as debit/credit"
+    assert _setting("bare_percent", "listed") is None
+    assert _setting("magnitude_words", {"bn": 12}) == "magnitude words bn = 10^12"

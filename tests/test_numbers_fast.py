@@ -50,8 +50,10 @@ except ImportError:  # tests/ is not a package: pytest puts tests/ itself on sys
     from corpora import numbers as number_corpus  # type: ignore[no-redef]
     from corpora import quantities as quantity_corpus  # type: ignore[no-redef]
 
-# digits, every mark the engine reads, signs, currency signs, words and look-alikes
-ALPHABET = "0123456789.,' -+()%€$£eEkKMm\u00a0\u2212٣abc"
+# digits, every mark the engine reads, signs, currency signs, words and look-alikes; digits
+# and marks of other scripts (Arabic-Indic, Persian, Devanagari, full-width), the Arabic
+# decimal and thousands separators and percent sign, German ledger letters
+ALPHABET = "0123456789.,' -+()%€$£eEkKMm\u00a0\u2212٣abc٫٬٪۵५５，．SHT"
 VALUES = st.lists(st.text(alphabet=ALPHABET, max_size=14), min_size=1, max_size=40)
 
 
@@ -103,7 +105,8 @@ COLUMN = st.lists(st.one_of(plain_amounts(), plain_amounts(), plain_amounts(), a
 
 FIELDS = ("status", "shift", "negative", "percent", "currency", "has_currency",
           "bare_digits", "magnitude", "has_magnitude", "length", "zero_first", "text",
-          "body", "dot_digits", "comma_digits", "body_length", "body_zero_first")
+          "body", "dot_digits", "comma_digits", "body_length", "body_zero_first", "side",
+          "thousands", "arabic_decimal")
 
 
 @contextmanager
@@ -165,7 +168,10 @@ def conventions(draw: st.DrawFn) -> dict:
             "trailing_zeros": draw(st.sampled_from(["drop", "keep"])),
             "percent": draw(st.booleans()), "currency_mode": mode,
             "currency": None if mode == "none" else draw(st.sampled_from([None, "EUR"])),
-            "symbols": draw(st.sampled_from([{}, {"$": "CAD"}]))}
+            "symbols": draw(st.sampled_from([{}, {"$": "CAD"}])),
+            "bare_percent": draw(st.sampled_from([None, "points", "fraction", "listed"])),
+            "side_marks": draw(st.sampled_from([None, "column", "debit-negative"])),
+            "soll_haben": draw(st.booleans()), "currency_thousands": draw(st.booleans())}
 
 
 @settings(max_examples=120, deadline=None)

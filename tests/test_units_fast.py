@@ -27,10 +27,11 @@ from harmonize.engines.units_convert import (
 from harmonize.engines.units_parse import SIMPLE, _one_token, compound, fold_text, split_cells
 from harmonize.engines.units_registry import normalise_token, read_token
 
-ODD = ["", " ", "\t", "\x0b", "\x1c", "\u00a0", "\u3000", "\u2028", "°", "٣", "5", "x"]
+ODD = ["", " ", "\t", "\x0b", "\x1c", "\u00a0", "\u3000", "\u2028", "°", "٣", "5", "x", "٫",
+       "５"]
 TOKENS = ["kg", " kg", "KG", " Kilo", " lbs.", " ° C", "°F", " m²", "m2", " cm3", " ms-1",
           " ft 11 in", "' 11\"", " h 30 min", " st 4 lb", " oz", " gal", " ton", "Mg", " mg",
-          "kg kg", " 1/2", ""]
+          "kg kg", " 1/2", "", " кг", "公斤", " S", " H", "٫٥ كغ"]
 
 
 @st.composite

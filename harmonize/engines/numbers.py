@@ -9,11 +9,16 @@ the likely reading of listed values and stops one group's notation from deciding
 of a country whose CLDR notation differs.
 
 Written forms read: signs ``-`` ``+`` U+2212, accounting ``(1,234.50)``, trailing minus
-``1.234,56-``, credit/debit marks ``1,234.50 CR``, scientific ``1.5E3``, magnitude words
-(``locales/magnitudes.txt``), whole amounts ``5,-``, percentages (``%``, and ``‰`` ``‱``
-read as a tenth and a hundredth of a percent) and currencies (ISO 4217 codes and CLDR
-signs, before or after the number). Invisible format characters (zero-width spaces,
-direction marks, a soft hyphen between digits) are dropped before reading.
+``1.234,56-``, credit/debit marks ``1,234.50 CR`` (German ``S``/``H`` and thousands
+``TEUR``/``T€`` where a German writer shows: ``numbers_ledger``), scientific ``1.5E3``,
+magnitude words (``locales/magnitudes.txt``), whole amounts ``5,-``, percentages (``%``
+after or, as CLDR tr and eu write it, before the number; ``‰`` ``‱`` read as a tenth and
+a hundredth of a percent; numbers without the sign beside them: ``numbers_percent``) and
+currencies (ISO 4217 codes and CLDR signs, before or after the number). Digits of every
+script (Arabic-Indic, Persian, Devanagari, full-width, ...) read as their Unicode values,
+the Arabic decimal and thousands separators as the decimal and group marks of any
+notation. Invisible format characters (zero-width spaces, direction marks, a soft hyphen
+between digits) are dropped before reading.
 
 Output: plain decimals with ``.``, no grouping, exact (``decimal.Decimal``), trailing
 fractional zeros dropped unless asked to keep them ("12.50" -> "12.5", "1200.0" -> "1200").
@@ -44,6 +49,11 @@ Convention keys (plain values; edit them in a plan file):
 ``trailing_zeros``      ``"drop"`` (default) or ``"keep"`` the fractional zeros as written.
 ``percent``             true: values are percentages, kept as written (``12.5%`` -> 12.5),
                         and the column's unit is "percent".
+``bare_percent``        in a percentage column, how numbers written without a percent sign
+                        are read: ``"points"`` (as written), ``"fraction"`` (times 100:
+                        a sheet's 0.125 -> 12.5) or ``"listed"`` (both readings offered);
+                        absent: points. Decided by comparing their sizes with the signed
+                        percentages' (``numbers_percent``); fractions only by a plan.
 ``currency_mode``       ``"none"``, ``"single"`` (amounts in ``currency``; the unit) or
                         ``"mixed"`` (each value's ISO code goes to the companion column
                         "<column> currency").
@@ -68,13 +78,19 @@ Convention keys (plain values; edit them in a plan file):
 ``magnitude_words``     word -> power of ten for magnitude words whose power depends on the
                         writer's language (``{"bn": 12}``; ``locales/magnitude_languages.txt``);
                         present when the column holds such words; a word absent is listed.
+``soll_haben``          true: "S"/"H" after an amount are German debit/credit marks, read
+                        as ``side_marks`` says; false: such values are listed (present
+                        when the column holds them; ``numbers_ledger``).
+``currency_thousands``  true: "T" glued before the currency ("1.234 TEUR", "5 T€") is
+                        thousands; false: listed with the thousand and trillion readings.
 
 Per-group conventions (``Decision.groups``) carry the same keys for the rows of one label.
 
 Engine options (``Options.engine["numbers"]``): ``trust_locale_hint`` (default false) lets a
 locale hint (country column, ``Options.locale``/``default_region``) decide a column or
 group that no value decides; ``trailing_zeros`` ("drop"/"keep") sets that key;
-``side_marks`` sets that key for a column that holds credit/debit marks.
+``side_marks`` sets that key for a column that holds credit/debit marks; ``bare_percent``
+sets that key for every percentage column.
 
 Evidence the decision weighs: values that only one notation reads, the role each mark is
 seen in, whole numbers written without group marks, workbook number cells
@@ -91,6 +107,7 @@ from __future__ import annotations
 import re
 from collections.abc import Mapping, Sequence
 from dataclasses import dataclass, replace
+from decimal import Decimal
 from functools import cache
 from typing import Any, ClassVar
 
@@ -104,6 +121,7 @@ from harmonize.engines.base import Converted, Decision, GroupRule
 from harmonize.engines.numbers_convert import (
     SIDE_COLUMN,
     SIDE_MODES,
+    amounts_of,
     convert_amounts,
     parse_amount,
     parse_amounts,
@@ -128,6 +146,13 @@ from harmonize.engines.numbers_forms import (
     format_decimal_plain,
     per_key,
 )
+from harmonize.engines.numbers_ledger import (
+    LETTERS_KEY,
+    THOUSANDS_KEY,
+    LedgerDecision,
+    decide_ledger,
+    sides_of,
+)
 from harmonize.engines.numbers_magnitudes import KEY as MAGNITUDE_KEY
 from harmonize.engines.numbers_magnitudes import MagnitudeDecision, decide_magnitude_words
 from harmonize.engines.numbers_marks import (
@@ -136,6 +161,9 @@ from harmonize.engines.numbers_marks import (
     decide_marks,
     single_territory,
 )
+from harmonize.engines.numbers_percent import KEY as BARE_PERCENT_KEY
+from harmonize.engines.numbers_percent import MODES as BARE_PERCENT_MODES
+from harmonize.engines.numbers_percent import PercentDecision, decide_percent
 from harmonize.engines.numbers_series import measured_series
 from harmonize.evidence import ColumnEvidence
 from harmonize.locales import load_entries
@@ -354,29 +382,37 @@ class NumberEngine:
         skip = typed if (~typed & number).any() else np.zeros(len(forms), bool)
         marks = decide_column_marks(column, forms, context, skip)
         currency = _decide_currency(column, forms, context, number)
-        percent = _decide_percent(column, forms, number)
+        percent = decide_percent(column, forms, number,
+                                 lambda: _amounts(forms, marks.convention(), typed), typed,
+                                 context.options.for_engine("numbers"))
         words = decide_magnitude_words(column, forms, context,
                                        lambda: single_territory(context, column.name))
-        decision = self._decision(column, context, forms, fit, marks, currency, percent, typed,
-                                  words)
+        ledger = decide_ledger(column, forms, context,
+                               lambda: single_territory(context, column.name))
+        decision = self._decision(column, context, forms, fit, marks, currency,
+                                  (percent, ledger), typed, words)
         return replace(decision, evidence=(series, *decision.evidence)) if series else decision
 
     def _decision(self, column: ColumnEvidence, context: Context, forms: Forms, fit: float,
-                  marks: MarkDecision, currency: CurrencyDecision, percent: bool,
-                  typed: np.ndarray, words: MagnitudeDecision) -> Decision:
+                  marks: MarkDecision, currency: CurrencyDecision,
+                  forms_read: tuple[PercentDecision, LedgerDecision], typed: np.ndarray,
+                  words: MagnitudeDecision) -> Decision:
         options = context.options.for_engine("numbers")
+        percents, ledger = forms_read
         groups = _group_rule(marks, currency, words)
-        sides, side_evidence = _decide_sides(column, forms, options)
+        sides, side_evidence = _decide_sides(column, forms, options,
+                                             ledger.convention(forms))
         per_unit, per_evidence = _decide_per(column, forms, context)
+        percent = percents.percent
         convention: dict[str, Any] = {
             **marks.convention(), "trailing_zeros": options.get("trailing_zeros", "drop"),
             "percent": percent, "currency_mode": currency.mode,
             "currency": currency.code, "symbols": currency.symbols, "side_marks": sides,
-            "per_unit": per_unit}
+            "per_unit": per_unit, **percents.convention(), **ledger.convention(forms)}
         if words.evidence:
             convention[MAGNITUDE_KEY] = words.readings
-        evidence = (list(marks.evidence) + currency.evidence + side_evidence + per_evidence
-                    + words.evidence)
+        evidence = (list(marks.evidence) + currency.evidence + ledger.evidence + side_evidence
+                    + per_evidence + words.evidence)
         if typed.any():
             evidence.append(f"{int(typed.sum())} value(s) are workbook number cells")
         if column.formats:
@@ -384,6 +420,7 @@ class NumberEngine:
                 f"{fmt!r}" for fmt, _ in column.formats.most_common(3)))
         if percent:
             evidence.append("values are percentages: numbers kept as written, unit 'percent'")
+            evidence.extend(percents.evidence)
             if (forms.percent & (forms.shift < 0) & forms.is_number).any():
                 evidence.append("per mille (‰) and per ten thousand (‱) values are written as "
                                 "percentages: a tenth and a hundredth of their number")
@@ -397,7 +434,7 @@ class NumberEngine:
         if currency.code:
             details["currency_note"] = f"amounts in {currency.code}; no exchange-rate conversion"
         confidence = (_kind_confidence(forms, fit) * marks.confidence * currency.confidence
-                      * words.confidence)
+                      * words.confidence * percents.confidence * ledger.confidence)
         return Decision(kind="number", engine=self.name, fit=min(fit, 1.0),
                         confidence=round(min(max(confidence, 0.01), 0.999), 4),
                         convention=convention, groups=groups, evidence=tuple(evidence),
@@ -413,11 +450,19 @@ class NumberEngine:
         return found + (("side",) if convention.get("side_marks") == SIDE_COLUMN else ())
 
     def problems(self, convention: Mapping[str, Any]) -> list[str]:
+        found = []
         sides = convention.get("side_marks")
         if sides is not None and sides not in SIDE_MODES:
-            return [f"side_marks must be one of {', '.join(SIDE_MODES)} or absent, "
-                    f"not {sides!r}"]
-        return []
+            found.append(f"side_marks must be one of {', '.join(SIDE_MODES)} or absent, "
+                         f"not {sides!r}")
+        bare = convention.get(BARE_PERCENT_KEY)
+        if bare is not None and bare not in BARE_PERCENT_MODES:
+            found.append(f"{BARE_PERCENT_KEY} must be one of {', '.join(BARE_PERCENT_MODES)} "
+                         f"or absent, not {bare!r}")
+        for key in (LETTERS_KEY, THOUSANDS_KEY):
+            if convention.get(key) not in (None, True, False):
+                found.append(f"{key} must be true or false, not {convention[key]!r}")
+        return found
 
 
 def _per_symbol(key: str) -> str:
@@ -464,35 +509,46 @@ def _decide_per(column: ColumnEvidence, forms: Forms, context: Context
     return chosen, evidence
 
 
-def _decide_sides(column: ColumnEvidence, forms: Forms, options: Mapping[str, Any]
-                  ) -> tuple[str | None, list[str]]:
-    """How the column's credit/debit marks are read (None when it has none)."""
-    marked = forms.is_number & (forms.side != "")
+def _decide_sides(column: ColumnEvidence, forms: Forms, options: Mapping[str, Any],
+                  letters: Mapping[str, Any]) -> tuple[str | None, list[str]]:
+    """How the column's credit/debit marks are read (None when it has none); ``letters``
+    says whether Soll/Haben letters are read (``numbers_ledger``)."""
+    side = sides_of(forms, letters)
+    marked = forms.is_number & ((side == "credit") | (side == "debit"))
     if not marked.any():
         return None, []
-    cells = {side: int(column.counts[marked & (forms.side == side)].sum())
-             for side in ("credit", "debit")}
+    cells = {name: int(column.counts[marked & (side == name)].sum())
+             for name in ("credit", "debit")}
     seen = " and ".join(f"{n} {side}" for side, n in cells.items() if n)
-    if "side_marks" not in options and not cells["debit"]:
+    if "side_marks" not in options and not cells["debit"] and _crore_like(forms, marked):
         # "1.2 Cr" is also 1.2 crore (10^7) in Indian figures: only a debit mark beside it
         # shows a ledger
         return None, [f"{cells['credit']} value(s) end in 'CR' with no debit mark in the "
                       "column: a credit mark or crore (10^7), listed"]
     chosen = options.get("side_marks", SIDE_COLUMN)
     if chosen == SIDE_COLUMN:
-        return chosen, [f"{seen} mark(s) (CR/DR): which side is negative depends on whose "
+        return chosen, [f"{seen} mark(s): which side is negative depends on whose "
                         "books these are, so amounts are written as they stand and each "
                         "row's side goes to the companion column 'side' (set side_marks to "
                         "'credit-negative' or 'debit-negative' to sign them)"]
-    return chosen, [f"{seen} mark(s) (CR/DR) read as signs: {chosen} (run option)"]
+    return chosen, [f"{seen} mark(s) read as signs: {chosen} (run option)"]
 
 
-def _decide_percent(column: ColumnEvidence, forms: Forms, number: np.ndarray) -> bool:
-    pct_cells = column.counts[number & forms.percent].sum()
-    number_cells = column.counts[number].sum()
-    header = column.name.casefold()
-    return bool(pct_cells >= 0.5 * number_cells or (
-        pct_cells and ("%" in header or "percent" in header or "pct" in header)))
+def _crore_like(forms: Forms, marked: np.ndarray) -> bool:
+    """Whether a marked value ends in "CR" (not the German "H" or "Haben")."""
+    ends = pc.match_substring_regex(forms.text_array, r"(?i)cr\.?[ )-]*$").fill_null(False)
+    return bool((marked & np.asarray(ends, dtype=bool)).any())
+
+
+def _amounts(forms: Forms, marks: Mapping[str, Any], typed: np.ndarray
+             ) -> list[Decimal | None]:
+    """Each value's number under the column's marks; a typed workbook number is plain
+    ("0.125") whatever the text cells write, so it is read with "." (as the core does)."""
+    found = amounts_of(forms, marks)
+    if typed.any():
+        plain = amounts_of(forms, {**marks, "decimal_mark": "."})
+        found = [p if t else f for f, p, t in zip(found, plain, typed.tolist(), strict=True)]
+    return found
 
 
 def _kind_confidence(forms: Forms, fit: float) -> float:

@@ -39,11 +39,31 @@ from harmonize.engines.numbers_forms import (
     per_key,
     to_decimal,
 )
+from harmonize.engines.numbers_ledger import (
+    THOUSAND,
+    TRILLION,
+    letter_reason,
+    sides_of,
+    thousands_reason,
+    thousands_shift,
+    unread_letters,
+    unread_thousands,
+)
 from harmonize.engines.numbers_magnitudes import (
     language_shift,
     language_words,
     open_reason,
     powers_of,
+)
+from harmonize.engines.numbers_percent import (
+    FRACTION,
+    FRACTION_SHIFT,
+    LISTED,
+    POINTS,
+    bare_mode,
+    bare_percent_reason,
+    bare_values,
+    fraction_reading,
 )
 
 MAX_LISTED_CANDIDATES = 6
@@ -138,7 +158,7 @@ def signed(forms: Forms, convention: Mapping[str, Any]) -> np.ndarray:
     negative_side = NEGATIVE_SIDE.get(convention.get("side_marks") or "")
     if negative_side is None:
         return forms.negative
-    return forms.negative | (forms.side == negative_side)
+    return forms.negative | (sides_of(forms, convention) == negative_side)
 
 
 def choose_marks(forms: Forms, mark: str | None,
@@ -243,8 +263,11 @@ def convert_amounts(values: Sequence[str], convention: Mapping[str, Any]) -> Con
     """
     values = values if isinstance(values, list) else list(values)
     keep = convention.get("trailing_zeros", "drop") == "keep"
-    texts, read = fast_convert(values, decimal_mark_of(convention), settled_marks(convention),
-                               keep)
+    if bare_mode(convention) == POINTS:
+        texts, read = fast_convert(values, decimal_mark_of(convention),
+                                   settled_marks(convention), keep)
+    else:   # every value of the fast shape is a bare number the convention rereads
+        texts, read = np.full(len(values), "", dtype=object), np.zeros(len(values), bool)
     if read.all():
         result = Converted(text=texts, outcome=np.full(len(values), Outcome.CONVERTED,
                                                         dtype=np.int8))
@@ -286,9 +309,17 @@ def convert_amounts_full(values: Sequence[str], convention: Mapping[str, Any]) -
     digits = np.where(chosen == ",", forms.comma_digits, forms.dot_digits)
     digits[chosen == ""] = "0"  # unreadable values ("1.2.3e1") have no digits to scale
     shift, open_words = language_shift(forms, convention)
-    texts = plain_texts(digits, shift, signed(forms, convention), keep)
+    thousands = thousands_shift(forms, convention)
+    shift = shift + thousands
+    bare = bare_values(forms) & (bare_mode(convention) != POINTS)
+    if bare_mode(convention) == FRACTION:
+        shift = shift + np.where(bare, FRACTION_SHIFT, 0)
+    negative = signed(forms, convention)   # once: the loop below reads it per value
+    texts = plain_texts(digits, shift, negative, keep)
     problem = _problems(forms, codes, convention)
     problem[open_words & (problem == "")] = "magnitude"
+    if bare_mode(convention) == LISTED:   # a zero reads alike either way
+        problem[bare & (texts != "0") & (problem == "")] = "bare-percent"
     if (forms.per != "").any():
         per_problem = _rescale(texts, forms, _per_keys(forms), convention.get("per_unit"),
                                keep)
@@ -297,19 +328,30 @@ def convert_amounts_full(values: Sequence[str], convention: Mapping[str, Any]) -
     result.text = np.where(converted, texts, "").tolist()
     result.outcome[converted] = Outcome.CONVERTED
     for i in np.flatnonzero(~converted).tolist():
+        minus = bool(negative[i])
         if problem[i] == "magnitude" and chosen[i]:
-            _unresolved_magnitude(result, forms, i, digits[i], convention, keep)
+            _unresolved_magnitude(result, forms, i, digits[i], minus, keep)
+        elif problem[i] == "thousands" and chosen[i]:
+            readings = [format_decimal_plain(to_decimal(digits[i], int(shift[i]) + power,
+                                                        minus), keep)
+                        for power in (THOUSAND, TRILLION)]
+            result.unresolved(i, thousands_reason(forms.text[i]), candidates=readings)
+        elif problem[i] == "bare-percent" and chosen[i]:
+            fraction = fraction_reading(digits[i], int(shift[i]), minus, keep)
+            result.unresolved(i, bare_percent_reason(forms.text[i], texts[i], fraction),
+                              candidates=[texts[i], fraction])
         elif chosen[i]:
             result.unresolved(i, _describe(problem[i], forms, i, codes[i], convention),
                               best=texts[i])
         else:
-            _unresolved_mark(result, forms, i, convention, keep)
+            _unresolved_mark(result, forms, i, convention, keep,
+                             (minus, int(forms.shift[i] + thousands[i])))
     if convention.get("currency_mode") == "mixed":
         default = convention.get("currency") or ""
         filled = np.where(codes == "", default, codes)
         result.extra["currency"] = np.where(converted, filled, "").tolist()
     if convention.get("side_marks") == SIDE_COLUMN:
-        result.extra["side"] = np.where(converted, forms.side, "").tolist()
+        result.extra["side"] = np.where(converted, sides_of(forms, convention), "").tolist()
     return result
 
 
@@ -329,8 +371,11 @@ def _problems(forms: Forms, codes: np.ndarray, convention: Mapping[str, Any]) ->
         problem[codes == UNKNOWN] = "unknown-currency"
     if not convention.get("percent"):
         problem[forms.percent] = "percent"
+    letters = unread_letters(forms, convention)
     if convention.get("side_marks") not in SIDE_MODES:
-        problem[forms.side != ""] = "side"
+        problem[(forms.side != "") & ~letters] = "side"
+    problem[letters] = "letter"
+    problem[unread_thousands(forms, convention)] = "thousands"
     return problem
 
 
@@ -348,6 +393,8 @@ def _describe(problem: str, forms: Forms, i: int, code: str,
     if problem == "per":
         return (f"{raw!r} is a price per {forms.per[i]!r}, which is not a unit of what the "
                 f"column's prices are per ({convention.get('per_unit') or 'nothing'})")
+    if problem == "letter":
+        return letter_reason(raw, forms.side[i])
     if problem == "side":
         crore = " or crore (10^7)" if forms.side[i] == "credit" else ""
         return (f"{raw!r} carries a {forms.side[i]} mark{crore} in a column whose plan reads "
@@ -356,36 +403,31 @@ def _describe(problem: str, forms: Forms, i: int, code: str,
 
 
 def _unresolved_magnitude(result: Converted, forms: Forms, i: int, digits: str,
-                          convention: Mapping[str, Any], keep: bool) -> None:
+                          negative: bool, keep: bool) -> None:
     """A value whose magnitude word means different powers in different languages."""
     key = language_words(forms)[i]
-    negative = bool(signed(forms, convention)[i])
     readings = [format_decimal_plain(to_decimal(digits, int(forms.shift[i]) + power, negative),
                                      keep) for power in powers_of(key)]
     result.unresolved(i, open_reason(forms.text[i], key), candidates=readings)
 
 
-def _reading(forms: Forms, i: int, mark: str, keep: bool,
-             convention: Mapping[str, Any]) -> str:
-    value = to_decimal(forms.digits_for(i, mark), int(forms.shift[i]),
-                       bool(forms.negative[i]) or _negative_side(forms, i, convention))
-    return format_decimal_plain(value, keep)
-
-
-def _negative_side(forms: Forms, i: int, convention: Mapping[str, Any]) -> bool:
-    side = forms.side[i]
-    return bool(side) and NEGATIVE_SIDE.get(convention.get("side_marks") or "") == side
+def _reading(forms: Forms, i: int, mark: str, keep: bool, signed_shift: tuple[bool, int]
+             ) -> str:
+    negative, shift = signed_shift
+    return format_decimal_plain(to_decimal(forms.digits_for(i, mark), shift, negative), keep)
 
 
 def _unresolved_mark(result: Converted, forms: Forms, i: int, convention: Mapping[str, Any],
-                     keep: bool) -> None:
+                     keep: bool, signed_shift: tuple[bool, int]) -> None:
+    """A value the convention's mark does not read; ``signed_shift``: (negative, power of
+    ten) of the value as the convention signs and scales it."""
     status, raw = forms.status[i], forms.text[i]
     if status == NOT_NUMBER:
         result.unresolved(i, range_reason(raw) or
                           f"{raw!r} is not an amount in a form this column's values take")
         return
     if status == AMBIGUOUS:
-        readings = {m: _reading(forms, i, m, keep, convention) for m in (".", ",")}
+        readings = {m: _reading(forms, i, m, keep, signed_shift) for m in (".", ",")}
         result.unresolved(
             i, f"{raw!r} reads {readings['.']} with '.' as the decimal mark or "
                f"{readings[',']} with ',' as the decimal mark; no value of its column or "
@@ -395,7 +437,7 @@ def _unresolved_mark(result: Converted, forms: Forms, i: int, convention: Mappin
             best=readings.get(convention.get("likely_decimal_mark") or ""))
         return
     own = "." if status == DOT_ONLY else ","
-    reading = _reading(forms, i, own, keep, convention)
+    reading = _reading(forms, i, own, keep, signed_shift)
     result.unresolved(i, f"{raw!r} is written with {mark_name(own)} as the decimal mark but "
                          f"its column or group uses {mark_name(decimal_mark_of(convention))}",
                       candidates=[reading], best=reading)
@@ -407,14 +449,20 @@ def parse_amounts(values: Sequence[str], convention: Mapping[str, Any]) -> list[
     Signs, magnitude words, currency signs and percent signs are read; the value is the
     number itself (a currency or percent sign does not change it).
     """
-    forms = analyse(list(values))
+    return amounts_of(analyse(list(values)), convention)
+
+
+def amounts_of(forms: Forms, convention: Mapping[str, Any]) -> list[Decimal | None]:
+    """``parse_amounts`` of values already analysed."""
     mark = decimal_mark_of(convention)
     chosen = choose_marks(forms, mark, settled_marks(convention))
     read_ungrouped(forms, chosen, mark, ungrouped_digits_of(convention))
     # a credit/debit mark gives a value only where the convention signs it
     unsigned = (forms.side != "") & (convention.get("side_marks") not in NEGATIVE_SIDE)
-    chosen[unsigned] = ""
+    chosen[unsigned | unread_letters(forms, convention)] = ""
+    chosen[unread_thousands(forms, convention)] = ""
     shift, open_words = language_shift(forms, convention)
+    shift = shift + thousands_shift(forms, convention)
     chosen[open_words] = ""
     negative = signed(forms, convention)
     return [to_decimal(forms.digits_for(i, chosen[i]), int(shift[i]),

@@ -24,8 +24,15 @@ from harmonize.locales import load_entries
 SIGN_FILE = "number_currency_symbols"
 PREFERRED_SUFFIX = "+preferred"
 
+# Invisible format characters (Unicode general category Cf, all Default_Ignorable): a
+# copy from a web page or a right-to-left system leaves them inside numbers ("1\u200b234",
+# "\u200e-12,5") and CLDR writes some into signs (ar "ر.س.\u200f"); they carry no meaning
+# there, so numbers and signs are read without them.
+INVISIBLE = ("\u061c\u180e\u200b\u200c\u200d\u200e\u200f\u202a\u202b\u202c\u202d"
+             "\u202e\u2060\u2066\u2067\u2068\u2069\ufeff")
 # The same folding the number parser applies to raw text, so table keys match it.
-SIGN_FOLD = str.maketrans({"\u00a0": " ", "\u202f": " ", "\u2009": " ", "’": "'"})
+SIGN_FOLD = str.maketrans({"\u00a0": " ", "\u202f": " ", "\u2009": " ", "’": "'",
+                           **dict.fromkeys(INVISIBLE, None)})
 
 
 @cache
@@ -49,7 +56,10 @@ def _cldr_sign_use() -> dict[str, Counter[str]]:
     costs about a second, so the table is kept in the user's cache folder)."""
     import babel
     stored = cached_json("cldr-currency-signs", babel.__version__, _read_cldr_sign_use)
-    return {sign: Counter(codes) for sign, codes in stored.items()}
+    found: dict[str, Counter[str]] = {}
+    for sign, codes in stored.items():   # folded again: a table kept by an older folding
+        found.setdefault(sign.translate(SIGN_FOLD).strip(), Counter()).update(codes)
+    return found
 
 
 def _read_cldr_sign_use() -> dict[str, dict[str, int]]:

@@ -18,6 +18,7 @@ both read alike says nothing ("1234", "1 234").
 from __future__ import annotations
 
 import re
+import unicodedata
 from dataclasses import dataclass
 from decimal import Context, Decimal
 from functools import cache, cached_property
@@ -29,7 +30,7 @@ import pyarrow as pa
 import pyarrow.compute as pc
 
 from harmonize.engines.numbers_bytes import COMMA, DOT, MINUS, ZERO, ByteView
-from harmonize.engines.numbers_currency import iso_codes, literal, sign_pattern
+from harmonize.engines.numbers_currency import INVISIBLE, iso_codes, literal, sign_pattern
 from harmonize.locales import load_entries
 
 MAGNITUDE_FILE = "magnitudes"
@@ -40,27 +41,60 @@ LONG_DIGITS = 16  # digit strings this long are codes (cards, accounts), never a
 # Exact arithmetic for scaling: Decimal's default 28 digits would round long amounts.
 EXACT = Context(prec=200, Emax=10**6, Emin=-(10**6))
 
-# Invisible format characters (Unicode general category Cf, all Default_Ignorable): a
-# copy from a web page or a right-to-left system leaves them inside numbers ("1\u200b234",
-# "\u200e-12,5"); they carry no meaning there, so they are dropped before reading.
-INVISIBLE = ("\u061c\u180e\u200b\u200c\u200d\u200e\u200f\u202a\u202b\u202c\u202d"
-             "\u202e\u2060\u2066\u2067\u2068\u2069\ufeff")
+# Invisible format characters (``numbers_currency.INVISIBLE``) are dropped before reading.
 # The soft hyphen (U+00AD, also Cf) is dropped only between two digits ("3\u00ad456"): some
 # legacy code pages wrote a minus sign with its byte, so a leading one is left unread.
 SOFT_HYPHEN = "\u00ad"
 _SOFT_HYPHEN_INSIDE = re.compile(r"(?<=[0-9])\u00ad(?=[0-9])")   # ASCII digits, as RE2's \d
 
+# Full-width forms (U+FF01-U+FF5E: "１，２３４．５", "１２％") are the ASCII characters set
+# wide, as East Asian input methods write them: UnicodeData.txt decomposes each <wide> to
+# the ASCII character 0xFEE0 below it.
+FULL_WIDTH = {chr(code): chr(code - 0xFEE0) for code in range(0xFF01, 0xFF5F)}
+# The number signs of the Arabic script (Unicode names; CLDR "arab" and "arabext" number
+# symbols): U+066C ARABIC THOUSANDS SEPARATOR only ever groups digits, so it becomes a
+# space, which both notations read as a group mark; U+066A ARABIC PERCENT SIGN, U+0609
+# ARABIC-INDIC PER MILLE SIGN and U+060A ARABIC-INDIC PER TEN THOUSAND SIGN are the
+# percent signs. U+066B ARABIC DECIMAL SEPARATOR is kept: both notations read it as the
+# decimal mark (``ARABIC_DECIMAL``).
+ARABIC_SIGNS = {"\u066c": " ", "\u066a": "%", "\u0609": "\u2030", "\u060a": "\u2031"}
+ARABIC_DECIMAL = "\u066b"
+
 # Space look-alikes, apostrophe look-alikes and minus look-alikes folded to one form;
-# invisible characters dropped.
+# invisible characters dropped. Digits of every other script (Arabic-Indic, Persian,
+# Devanagari, Bengali, Thai, ...: Unicode category Nd) become ASCII digits of the same
+# value (``unicodedata.decimal``; ``fold_of``).
 FOLD_MAP = {
+    **FULL_WIDTH, **ARABIC_SIGNS,
     **dict.fromkeys(INVISIBLE, ""),
     "\u00a0": " ", "\u202f": " ", "\u2009": " ", "\u2007": " ", "\u2002": " ",
-    "\u2003": " ", "\u2005": " ", "\u2006": " ", "\t": " ",
+    "\u2003": " ", "\u2005": " ", "\u2006": " ", "\u3000": " ", "\t": " ",
     "’": "'", "ʼ": "'", "′": "'", "‘": "'",
-    "\u2212": "-", "\u2012": "-", "\u2013": "-", "\u2014": "-", "\ufe63": "-", "\uff0d": "-",
-    **{chr(0xFF10 + d): str(d) for d in range(10)},  # full-width digits
+    "\u2212": "-", "\u2010": "-", "\u2011": "-", "\u2012": "-", "\u2013": "-", "\u2014": "-",
+    "\ufe63": "-",
 }
-FOLD = str.maketrans(FOLD_MAP)
+
+
+def fold_of(char: str) -> str | None:
+    """What one character outside ASCII (or a tab) is read as, None when it is kept."""
+    found = FOLD_MAP.get(char)
+    if found is not None:
+        return found
+    value = unicodedata.decimal(char, None)
+    return None if value is None else str(value)
+
+
+class _FoldTable(dict[int, str]):
+    """``str.translate`` table of ``fold_of``, filled as characters are met."""
+
+    def __missing__(self, code: int) -> str:
+        char = chr(code)
+        found = fold_of(char) if code >= 0x80 or char == "\t" else None
+        self[code] = char if found is None else found
+        return self[code]
+
+
+FOLD = _FoldTable()
 
 # Status of a body under the two families (see module docstring).
 NOT_NUMBER, SAME, DOT_ONLY, COMMA_ONLY, AMBIGUOUS = range(5)
@@ -75,8 +109,10 @@ _CODE_SHAPE = re.compile(r"[A-Z]{3}")
 _LAKH = r"[1-9]\d?(?:,\d\d)+,\d{3}"
 _INT_DOT = "|".join([r"\d+", _grouped(","), _grouped(" "), _grouped("'"), _LAKH])
 _INT_COMMA = "|".join([r"\d+", _grouped(r"\."), _grouped(" "), _grouped("'")])
-DOT_BODY = re.compile(rf"(?:{_INT_DOT})(?:\.\d+)?|\.\d+")
-COMMA_BODY = re.compile(rf"(?:{_INT_COMMA})(?:,\d+)?|,\d+")
+# The Arabic decimal separator is a decimal mark in both notations ("١٢٫٥" is 12.5 to any
+# writer): a value using it reads alike under either.
+DOT_BODY = re.compile(rf"(?:{_INT_DOT})(?:[.{ARABIC_DECIMAL}]\d+)?|[.{ARABIC_DECIMAL}]\d+")
+COMMA_BODY = re.compile(rf"(?:{_INT_COMMA})(?:[,{ARABIC_DECIMAL}]\d+)?|[,{ARABIC_DECIMAL}]\d+")
 
 # The fast shape most amounts take: a number body alone, in ASCII, after at most a "-",
 # with no leading zero ("0,5" and "12" but not "007"). FAST_SHAPE[m] matches exactly
@@ -144,9 +180,15 @@ PERCENT_SHIFT = {"%": 0, "\u2030": -1, "\u2031": -2}
 # Credit and debit marks after an amount, as ledgers and statements print them
 # ("1,234.50 CR", "980.00 DR"; "DB" in reports edited by COBOL pictures). Common practice,
 # no source. Which side is negative depends on whose books they are: see ``numbers``.
+# German ledgers print Soll (debit) and Haben (credit), as words or as the letters "S" and
+# "H" ("1.234,50 S"). The letters are read only where a German writer is shown
+# (``numbers_ledger``): elsewhere they are marked "soll"/"haben" and listed.
+SOLL, HABEN = "soll", "haben"
 SIDE_WORDS = {"CR": "credit", "Cr": "credit", "cr": "credit",
-              "DR": "debit", "Dr": "debit", "dr": "debit", "DB": "debit", "Db": "debit"}
-SIDE_PATTERN = "|".join(SIDE_WORDS)
+              "DR": "debit", "Dr": "debit", "dr": "debit", "DB": "debit", "Db": "debit",
+              "Soll": "debit", "SOLL": "debit", "Haben": "credit", "HABEN": "credit",
+              "S": SOLL, "H": HABEN}
+SIDE_PATTERN = "|".join(sorted(SIDE_WORDS, key=len, reverse=True))
 
 # A price per unit after the amount ("2,50 €/kg", "$3.10 per lb", "4 € je Stk."): the
 # unit a word of letters (with "²" or "³"), read by the units engine's word lists where it
@@ -156,17 +198,19 @@ PER_TOKEN = r"[^\W\d_][^\W\d_]{0,11}[23\u00b2\u00b3]?\.?"
 
 # The number itself, with whatever comes before and after it; pyarrow (RE2) runs this over
 # all values, and the few distinct prefixes and suffixes are then read in Python.
-SPLIT_PATTERN = r"^(?P<pre>\D*?)(?P<num>\d[\d.,' ]*\d|\d|[.,]\d+)(?P<post>\D*|[eE].*)$"
+SPLIT_PATTERN = (rf"^(?P<pre>\D*?)(?P<num>\d[\d.,' {ARABIC_DECIMAL}]*\d|\d|[.,{ARABIC_DECIMAL}]\d+)"
+                 r"(?P<post>\D*|[eE].*)$")
 # The values SPLIT_PATTERN splits into ("", the value, ""): a number body alone.
-PLAIN_PATTERN = r"^(?:\d[\d.,' ]*\d|\d|[.,]\d+)$"
+PLAIN_PATTERN = rf"^(?:\d[\d.,' {ARABIC_DECIMAL}]*\d|\d|[.,{ARABIC_DECIMAL}]\d+)$"
 
 
 @cache
 def prefix_regex() -> re.Pattern[str]:
     cur = sign_pattern()
-    # accounting brackets inside or outside a currency sign: "($1.50)", "$(1.50)"
-    return re.compile(rf"(?P<open>\()? *(?P<sign1>[-+])? *(?P<cur1>{cur})? *(?P<open2>\()?"
-                      rf" *(?P<sign2>[-+])? *")
+    # accounting brackets inside or outside a currency sign: "($1.50)", "$(1.50)"; a
+    # percent sign before the number, as CLDR tr, ku and eu write it ("%12,5", "-%12")
+    return re.compile(rf"(?P<open>\()? *(?P<sign1>[-+])? *(?P<pct1>[%\u2030\u2031])? *"
+                      rf"(?P<cur1>{cur})? *(?P<open2>\()? *(?P<sign2>[-+])? *")
 
 
 @cache
@@ -175,7 +219,9 @@ def suffix_regex() -> re.Pattern[str]:
     mag = magnitudes().pattern
     return re.compile(
         rf"(?P<dash>[.,]--?)?(?P<exp>[eE][-+]?\d{{1,3}})?(?: *(?P<mag>{mag}))?"
-        rf"(?: *(?P<pct>[%\u2030\u2031]))?(?P<close2> *\))?(?: *(?P<cur2>{cur}))?"
+        rf"(?: *(?P<pct>[%\u2030\u2031]))?(?P<close2> *\))?"
+        # "T" glued before an ISO code or the euro sign: thousands ("1.234 TEUR", "5 T€")
+        rf"(?: *(?P<kilo>T(?=[A-Z]{{3}}|\u20ac))?(?P<cur2>{cur}))?"
         rf"(?: *(?:/|{PER_WORDS}) *(?P<per>{PER_TOKEN}))?"
         rf"(?: *(?P<side>{SIDE_PATTERN})\.?)?(?P<trail> *-)? *(?P<close>\))?")
 
@@ -241,6 +287,7 @@ class Forms:
     slow_magnitude: np.ndarray  # their magnitude words ("" when none)
     slow_side: np.ndarray       # their credit/debit marks, "credit"/"debit" ("" when none)
     slow_per: np.ndarray        # the unit of a price per unit, as written ("" when none)
+    thousands: np.ndarray       # "T" glued before the currency ("TEUR", "T€")
 
     def __len__(self) -> int:
         return len(self.status)
@@ -300,11 +347,21 @@ class Forms:
     @cached_property
     def dot_digits(self) -> np.ndarray:
         """Body read with "." as decimal mark, as Decimal-ready text."""
-        return _strings(_without(self.body_array, ", '"))
+        return _strings(decimal_digits(self.body_array, "."))
 
     @cached_property
     def comma_digits(self) -> np.ndarray:
-        return _strings(pc.replace_substring(_without(self.body_array, ". '"), ",", "."))
+        return _strings(decimal_digits(self.body_array, ","))
+
+    @cached_property
+    def arabic_decimal(self) -> np.ndarray:
+        """Per value: whether its body holds the Arabic decimal separator (a fraction that
+        reads alike under both notations)."""
+        found = np.zeros(len(self), dtype=bool)
+        if not self.fast.all():   # only values outside ASCII hold it
+            found[~self.fast] = np.asarray(pc.match_substring(self.slow_body, ARABIC_DECIMAL)
+                                           .fill_null(False), dtype=bool)
+        return found
 
     def text_at(self, i: int) -> str:
         return str(self.text_array[i].as_py())
@@ -376,7 +433,7 @@ def analyse(values: list[str] | np.ndarray) -> Forms:
         length=view.lengths, zero_first=first == ZERO, raw=raw, fast=fast,
         slow_text=empty, slow_body=empty, slow_currency=np.zeros(0, object),
         slow_magnitude=np.zeros(0, object), slow_side=np.zeros(0, object),
-        slow_per=np.zeros(0, object))
+        slow_per=np.zeros(0, object), thousands=np.zeros(n, bool))
     if fast.all():   # a fast value's body is its raw text less the sign: marks known
         forms._chars.update(held)
     else:
@@ -435,7 +492,7 @@ def _fill_slow(forms: Forms, parts: dict[str, Any]) -> None:
     """Put the full reading of the values outside the fast shape in their places."""
     slow = ~forms.fast
     for name in ("status", "shift", "negative", "percent", "has_currency", "bare_digits",
-                 "has_magnitude", "length", "zero_first"):
+                 "has_magnitude", "length", "zero_first", "thousands"):
         getattr(forms, name)[slow] = parts[name]
     forms.slow_text, forms.slow_body = parts["text"], parts["body"]
     forms.slow_currency, forms.slow_magnitude = parts["currency"], parts["magnitude"]
@@ -453,7 +510,8 @@ def analyse_full(values: list[str] | np.ndarray) -> Forms:
         length=np.zeros(n, np.int64), zero_first=np.zeros(n, bool), raw=raw,
         fast=np.zeros(n, bool), slow_text=raw, slow_body=raw,
         slow_currency=np.full(n, "", dtype=object), slow_magnitude=np.full(n, "", dtype=object),
-        slow_side=np.full(n, "", dtype=object), slow_per=np.full(n, "", dtype=object))
+        slow_side=np.full(n, "", dtype=object), slow_per=np.full(n, "", dtype=object),
+        thousands=np.zeros(n, bool))
     if n:
         _fill_slow(forms, _full_parts(raw))
     return forms
@@ -461,7 +519,7 @@ def analyse_full(values: list[str] | np.ndarray) -> Forms:
 
 def _folded(text: pa.Array) -> pa.Array:
     """Space, apostrophe, minus and digit look-alikes folded to one form, invisible
-    characters dropped (FOLD_MAP).
+    characters dropped (``fold_of``).
 
     Every one of them but the tab is outside ASCII, and in UTF-8 the bytes of a character
     outside ASCII are all 0x80 or above: those bytes alone decode to the characters the
@@ -472,8 +530,10 @@ def _folded(text: pa.Array) -> pa.Array:
     present = set(high.tobytes().decode("utf-8", "replace")) if len(high) else set()
     if (data == ord("\t")).any():
         present.add("\t")
-    for char in sorted(present & FOLD_MAP.keys()):
-        text = pc.replace_substring(text, char, FOLD_MAP[char])
+    for char in sorted(present):
+        target = fold_of(char)
+        if target is not None:
+            text = pc.replace_substring(text, char, target)
     if SOFT_HYPHEN in present:
         # RE2 has no look-around: matches may not overlap, so two passes ("1\u00ad2\u00ad3")
         for _ in range(2):
@@ -495,6 +555,7 @@ def _full_parts(raw: pa.Array) -> dict[str, Any]:
     before = _Affixes(pre_text, prefix_regex(), _PREFIX)
     after = _Affixes(post_text, suffix_regex(), _SUFFIX)
     has = before.has | after.has
+    percent = has["pct"] | has["pct1"]
     # a credit/debit mark is a sign of its own: "-5 CR" says the side twice
     opened = has["open"].astype(int) + has["open2"]
     closed = has["close"].astype(int) + has["close2"]
@@ -506,9 +567,9 @@ def _full_parts(raw: pa.Array) -> dict[str, Any]:
     known = np.where(has["cur1"], before.spread("cur1", _known_code, bool),
                      after.spread("cur2", _known_code, bool))
     valid = (matched & before.ok & after.ok & (opened == closed) & (n_signs <= 1)
-             & ~(has["cur1"] & has["cur2"]) & ~(has["pct"] & named)
+             & ~(has["cur1"] & has["cur2"]) & ~(percent & named) & ~(has["pct1"] & has["pct"])
              & known & ~(after.spread("mag", _currency_only, bool) & ~named)
-             & ~(has["per"] & (has["pct"] | ~after.spread("per", per_key, bool))))
+             & ~(has["per"] & (percent | ~after.spread("per", per_key, bool))))
 
     # "5,-" and "5.–" are whole amounts written with the decimal mark: read as "5,0"/"5.0"
     body = num
@@ -519,13 +580,13 @@ def _full_parts(raw: pa.Array) -> dict[str, Any]:
     dot_ok = _fullmatch(body, DOT_BODY) & valid
     comma_ok = _fullmatch(body, COMMA_BODY) & valid
     bare = _fullmatch(body, re.compile(r"\d+")) & valid & (n_signs == 0) & ~named & ~(
-        has["pct"] | has["mag"] | has["exp"])
+        percent | has["mag"] | has["exp"])
     too_long = bare & (np.asarray(pc.utf8_length(body).fill_null(0)) >= LONG_DIGITS)
     dot_ok &= ~too_long
     comma_ok &= ~too_long
 
-    dot_np = _strings(_without(body, ", '"))
-    comma_np = _strings(pc.replace_substring(_without(body, ". '"), ",", "."))
+    dot_np = _strings(decimal_digits(body, "."))
+    comma_np = _strings(decimal_digits(body, ","))
     status = np.full(len(text), NOT_NUMBER, dtype=np.int8)
     same = dot_np == comma_np
     status[dot_ok & comma_ok & same] = SAME
@@ -535,13 +596,14 @@ def _full_parts(raw: pa.Array) -> dict[str, Any]:
 
     exp = after.spread("exp", lambda e: int(e[1:]) if e else 0, np.int64)
     exp += after.spread("pct", lambda p: PERCENT_SHIFT.get(p, 0), np.int64)
+    exp += before.spread("pct1", lambda p: PERCENT_SHIFT.get(p, 0), np.int64)
     minus = before.spread("sign1", _is_minus, bool) | before.spread("sign2", _is_minus, bool)
     return {"status": status, "shift": exp + _magnitude_powers(magnitude),
-            "negative": minus | has["trail"] | (opened > 0), "percent": has["pct"],
+            "negative": minus | has["trail"] | (opened > 0), "percent": percent,
             "currency": currency, "has_currency": named, "bare_digits": bare,
             "magnitude": magnitude, "has_magnitude": has["mag"],
             "side": after.spread("side", lambda w: SIDE_WORDS.get(w, ""), object),
-            "per": after.part("per"),
+            "per": after.part("per"), "thousands": has["kilo"],
             "length": np.asarray(pc.utf8_length(text), dtype=np.int64),
             "zero_first": np.asarray(pc.starts_with(text, "0"), dtype=bool),
             "text": text, "body": body.fill_null("")}
@@ -573,6 +635,16 @@ def _split(text: pa.Array) -> tuple[np.ndarray, pa.Array, pa.Array, pa.Array]:
             pc.replace_with_mask(empty, rest, split.field("post")))
 
 
+def decimal_digits(body: pa.Array, mark: str) -> pa.Array:
+    """Bodies read with ``mark`` as the decimal mark, as Decimal-ready text: the group
+    marks dropped, the decimal mark (or an Arabic decimal separator) made "."."""
+    digits = _without(body, ", '" if mark == "." else ". '")
+    for point in ((",", ARABIC_DECIMAL) if mark == "," else (ARABIC_DECIMAL,)):
+        if pc.any(pc.match_substring(digits, point)).as_py():
+            digits = pc.replace_substring(digits, point, ".")
+    return digits
+
+
 def _without(array: pa.Array, marks: str) -> pa.Array:
     """The strings with every one of ``marks`` removed (literal passes: no regex; a
     mark no value holds costs one scan, not a rewrite)."""
@@ -582,8 +654,9 @@ def _without(array: pa.Array, marks: str) -> pa.Array:
     return array
 
 
-_PREFIX = ("open", "sign1", "cur1", "open2", "sign2")
-_SUFFIX = ("dash", "exp", "mag", "pct", "close2", "cur2", "per", "side", "trail", "close")
+_PREFIX = ("open", "sign1", "pct1", "cur1", "open2", "sign2")
+_SUFFIX = ("dash", "exp", "mag", "pct", "close2", "kilo", "cur2", "per", "side", "trail",
+           "close")
 
 
 def _strings(array: pa.Array) -> np.ndarray:

@@ -56,7 +56,9 @@ def ungrouped_digits(forms: Forms, mask: np.ndarray) -> tuple[int, int, str]:
                     | ((status == COMMA_ONLY) & forms.has_char(".")))
     if shown.any():
         return 0, 0, ""
-    whole = mask & (status == SAME) & ~spaced & (forms.body_length >= MIN_UNGROUPED)
+    # "١٢٫٥" reads alike under both notations but is no whole number
+    whole = (mask & (status == SAME) & ~spaced & ~forms.arabic_decimal
+             & (forms.body_length >= MIN_UNGROUPED))
     if whole.any():
         whole &= ~forms.body_zero_first
     if not whole.any():

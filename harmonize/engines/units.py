@@ -410,6 +410,11 @@ class UnitEngine:
         if listed:
             evidence.append(f"{listed} cell(s) listed as undecided (see their reasons)")
         fit = min(plan.fit_cells / column.total, 1.0)
+        if _ledger_letters(tally):
+            fit *= 0.5
+            evidence.append("the only unit tokens are 'S' and 'H' in capitals, which German "
+                            "ledgers print for Soll and Haben (debit and credit): left to the "
+                            "numbers engine")
         confidence = _confidence(tally, column.total, convention, plan)
         return Decision(kind="quantity", engine=self.name, fit=fit, confidence=confidence,
                         convention=convention, groups=plan.groups, evidence=tuple(evidence),
@@ -418,6 +423,12 @@ class UnitEngine:
 
     def convert(self, values: Sequence[str], convention: Mapping[str, Any]) -> Converted:
         return convert_quantities(values, convention)
+
+
+def _ledger_letters(tally: Tally) -> bool:
+    """Whether the column's unit tokens are exactly "S" and "H": seconds and hours only
+    read case-folded, and the Soll/Haben marks of German ledgers ("1.234,50 S")."""
+    return set(tally.token_cells) == {"S", "H"}
 
 
 def _clock_hours(column: ColumnEvidence, header: Any) -> bool:

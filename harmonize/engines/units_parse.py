@@ -24,7 +24,7 @@ import numpy as np
 import pyarrow as pa
 import pyarrow.compute as pc
 
-from harmonize.engines.numbers_forms import fold_chars, is_magnitude_word
+from harmonize.engines.numbers_forms import ARABIC_DECIMAL, fold_chars, is_magnitude_word
 from harmonize.engines.units_registry import UNITS, Reading, normalise_token, read_token
 from harmonize.locales import load_entries
 
@@ -33,8 +33,10 @@ from harmonize.locales import load_entries
 # A fraction, as the customary measures are written ("3/4 in", "1 1/2 lb"; "½" is folded
 # to "1/2"), comes first: "1 1/2" is one number, not "1" and a unit "1/2".
 FRACTION = r"(?:\d+ )?\d+/\d+"
-NUMBER = (rf"(?:{FRACTION}|\d{{1,3}}(?:[ '.,]\d{{3}})+(?:[.,]\d+)?|\d+(?:[.,]\d+)?|[.,]\d+)"
-          r"(?:[eE][-+]?\d{1,3})?")
+# The Arabic decimal separator (kept by the folding) marks a fraction like "." and ",".
+_POINT = f"[.,{ARABIC_DECIMAL}]"
+NUMBER = (rf"(?:{FRACTION}|\d{{1,3}}(?:[ '.,]\d{{3}})+(?:{_POINT}\d+)?|\d+(?:{_POINT}\d+)?"
+          rf"|{_POINT}\d+)(?:[eE][-+]?\d{{1,3}})?")
 SIMPLE = re.compile(rf"^(?P<sign>[-+])?\s*(?P<num>{NUMBER})\s*(?P<unit>[^\d\s.,+\-].*?)?$")
 PIECE = re.compile(r"(?P<num>\d+(?:[.,]\d+)?)\s*(?P<unit>[^\d\s][^\d]*?)?\s*(?=\d|$)")
 

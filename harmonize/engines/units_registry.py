@@ -14,6 +14,8 @@ femtolitre-ounce). They are looked up in two word lists instead:
   ("mg" and "Mg" differ); when no symbol matches exactly, a case-folded match is tried,
   which never reads a unit marked ``rare`` (megagram, megametre), so "MG" is milligram.
 * ``locales/unit_names.txt``: names in any language, matched case-folded ("Kilogramm").
+* CLDR's names and symbols in languages written outside the Latin script ("кг", "كغم",
+  "公斤"; ``units_cldr``), matched like names, after the two lists.
 
 A token listed under several units is ambiguous ("ton", "oz", "gal"); the engine narrows
 it by the column's dimension and evidence, or lists the cell.
@@ -32,6 +34,7 @@ from functools import cache
 import pint
 
 from harmonize.diskcache import cached_json
+from harmonize.engines.units_cldr import cldr_index, cldr_tokens
 from harmonize.locales import load_entries
 
 
@@ -288,11 +291,16 @@ class Reading:
 def read_token(token: str) -> Reading:
     """The units a written token may mean (cached: each distinct token is read once)."""
     norm = normalise_token(token)
+    exact = cldr_tokens().get(token.strip()) if not norm.isascii() else None
+    if exact:   # as CLDR writes it, dots and all: el "μ." is the metre, "µ" the micrometre
+        return Reading(frozenset(exact), "name")
     if norm in symbol_index():
         return Reading(symbol_index()[norm], "symbol")
     folded = norm.casefold()
     if folded in name_index():
         return Reading(name_index()[folded], "name")
+    if not norm.isascii() and folded in cldr_index():   # other scripts: CLDR's names
+        return Reading(cldr_index()[folded], "name")
     if folded in folded_symbol_index():
         return Reading(folded_symbol_index()[folded], "case-folded")
     return Reading(frozenset(), "unknown")
