@@ -19,7 +19,10 @@ from harmonize.diskcache import cached_json
 from harmonize.locales import load_entries
 
 NAME_LANGUAGES = ("en", "de", "fr", "es", "it", "nl", "pt", "sv", "da", "nb", "fi", "pl",
-                  "cs", "hu", "ro", "el", "tr", "ru", "ja", "zh", "ko")
+                  "cs", "hu", "ro", "el", "tr", "ru", "ja", "zh", "ko", "ar", "fa", "he",
+                  "uk", "bg", "id", "th")
+# Not read: Hindi (folding drops its vowel signs, leaving skeletons such as अरब, "Arab",
+# for Aruba) and Vietnamese (short names fold to common tokens: "Séc" to "sec").
 
 
 def fold(text: str) -> str:

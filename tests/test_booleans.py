@@ -36,6 +36,8 @@ def convert_all(values: list[str], header: str = "col") -> dict[str, str]:
     ("✓", "✗"), ("✔", "✘"), ("☑", "☐"), ("✓", "x"), ("J", "N"), ("O", "N"), ("S", "N"),
     ("да", "нет"), ("так", "ні"), ("ναι", "όχι"), ("はい", "いいえ"), ("是", "否"),
     ("예", "아니요"), ("☒", "☐"),   # ☒ U+2612: a ticked box in form exports
+    # Arabic, Persian (also typed with the Arabic yeh), Hebrew, Hindi: common usage, no source
+    ("نعم", "لا"), ("بله", "خیر"), ("بله", "خير"), ("כן", "לא"), ("हाँ", "नहीं"), ("हां", "नहीं"),
 ])
 def test_language_pairs_read_as_true_and_false(yes: str, no: str) -> None:
     out = convert_all([yes, no, yes, f" {yes.upper()} ", no.lower() + "."])

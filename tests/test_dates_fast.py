@@ -82,8 +82,21 @@ def written_values(draw: st.DrawFn) -> str:
                 clock += "." + draw(st.text("0123456789", min_size=1, max_size=11))
         gap = draw(st.sampled_from(["T", " ", ", ", "  ", "t", ","]))
         text = f"{text}{gap}{clock}{draw(st.sampled_from(ZONES))}"
-    return draw(st.sampled_from(["", "", "", " ", "\u00a0"])) + text + draw(
+    text = draw(st.sampled_from(["", "", "", " ", "\u00a0"])) + text + draw(
         st.sampled_from(["", "", "", " ", "."]))
+    return text.translate(draw(st.sampled_from(SCRIPTS)))
+
+
+# Digits of other scripts, as UnicodeData.txt numbers them (category Nd, field 6 the
+# value): Arabic-Indic U+0660, Extended Arabic-Indic (Persian) U+06F0, Devanagari U+0966,
+# full-width U+FF10 (with the full-width "-", ":", "/", "." of U+FF01-U+FF5E). The bulk
+# reading leaves them to the parser, which folds them; the two must agree.
+def _script(zero: int, extra: str = "", wide: str = "") -> dict[int, str]:
+    return str.maketrans("0123456789" + extra, "".join(chr(zero + d) for d in range(10)) + wide)
+
+
+SCRIPTS = [{}, {}, {}, _script(0x0660), _script(0x06F0), _script(0x0966),
+           _script(0xFF10, "-:/.", "\uff0d\uff1a\uff0f\uff0e")]
 
 
 def generated(n: int, seed: int) -> list[str]:

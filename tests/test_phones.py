@@ -435,3 +435,31 @@ def test_extension_words_of_other_languages(text: str, region: str, base: str) -
     e164 = pn.format_number(pn.parse(base, region), pn.PhoneNumberFormat.E164)
     table, decision = decide(pd.DataFrame({"Phone": [text, base]}), default_region=region)
     assert [t for t, _, _ in apply(table, decision)] == [f"{e164};ext=12", e164]
+
+
+# Digits of other scripts: phonenumbers reads Arabic-Indic and Persian digits itself; the
+# engine's screening must too. Expected: phonenumbers on the ASCII forms (E.164).
+ARABIC_INDIC = str.maketrans("0123456789", "٠١٢٣٤٥٦٧٨٩")    # U+0660-U+0669
+PERSIAN = str.maketrans("0123456789", "۰۱۲۳۴۵۶۷۸۹")         # U+06F0-U+06F9
+
+
+@pytest.mark.parametrize(("country", "region", "digits", "national"), [
+    ("Egypt", "EG", ARABIC_INDIC, ["01001234567", "0100 123 4567", "02 2345 6789"]),
+    ("EG", "EG", ARABIC_INDIC, ["01112345678", "+20 100 123 4567", "(0100) 123-4567"]),
+    ("Iran", "IR", PERSIAN, ["09123456789", "0912 345 6789", "021 8877 6655"]),
+])
+def test_phones_in_other_digits_read_as_their_ascii_forms(country: str, region: str,
+                                                          digits: dict, national: list) -> None:
+    written = [n.translate(digits) for n in national]
+    frame = pd.DataFrame({"Country": [country] * 3, "Phone": written})
+    table, decision = decide(frame)
+    assert decision is not None and decision.kind == "phone"
+    expected = [pn.format_number(pn.parse(n, region), pn.PhoneNumberFormat.E164)
+                for n in national]
+    assert [text for text, _, _ in apply(table, decision)] == expected
+
+
+def test_bare_digits_in_other_scripts_without_a_phone_header_are_not_claimed() -> None:
+    # the same rule as ASCII digit strings: codes, not phones, without a phone header
+    values = [str(4_000_000_000 + 7919 * k).translate(ARABIC_INDIC) for k in range(30)]
+    assert decide(pd.DataFrame({"Reference": values}), "Reference")[1] is None

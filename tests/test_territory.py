@@ -84,3 +84,12 @@ def test_branch_codes_name_their_country_and_tax_numbers_do_not() -> None:
     assert _label_territory("DE-04") == "DE" and _label_territory("FR_PARIS") == "FR"
     assert _label_territory("DE 123 456 789") is None
     assert _label_territory("FR 40 303 265 045") is None
+
+
+@pytest.mark.parametrize(("language", "code"), [
+    ("ar", "EG"), ("fa", "IR"), ("he", "IL"), ("uk", "UA"), ("th", "TH"), ("id", "ID"),
+    ("bg", "BG"),
+])
+def test_country_names_in_more_scripts(language: str, code: str) -> None:
+    # Unicode CLDR territory names, as babel ships them
+    assert territory_of(Locale.parse(language).territories[code]) == code

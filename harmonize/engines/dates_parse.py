@@ -10,6 +10,7 @@ Each distinct string is parsed once (``parse`` is cached).
 from __future__ import annotations
 
 import re
+import unicodedata
 from dataclasses import dataclass
 from datetime import date, datetime, timedelta
 from functools import lru_cache
@@ -104,8 +105,36 @@ _SPACED_H = re.compile(r"(?<![\d:])(\d{1,2}) h (\d{2})(?: min (\d{2}) s)?(?![\d:
 _DOTTED_CLOCK = re.compile(r"(.*?\S)[ ,]+(?:klo |kl\.? )?(\d{1,2})\.(\d{2})(?:\.(\d{2}))?")
 
 
+class _DigitFold(dict[int, str]):
+    """``str.translate`` table, filled as characters are met: digits of every script
+    (Unicode category Nd: Arabic-Indic, Persian, Devanagari, full-width, ...) become the
+    ASCII digit of the same value (``unicodedata.decimal``, UnicodeData.txt field 6), and
+    full-width forms U+FF01-U+FF5E ("－", "：", "／") the ASCII character they widen
+    (UnicodeData.txt <wide> decompositions), as the numbers engine reads them."""
+
+    def __missing__(self, code: int) -> str:
+        char = chr(code)
+        value = unicodedata.decimal(char, None) if code >= 0x80 else None
+        if value is not None:
+            found = str(value)
+        elif 0xFF01 <= code <= 0xFF5E:
+            found = chr(code - 0xFEE0)
+        else:
+            found = char
+        self[code] = found
+        return found
+
+
+DIGIT_FOLD = _DigitFold()
+
+
+def fold_digits(text: str) -> str:
+    """``DIGIT_FOLD`` applied: '٢٠٢٤-٠٥-٠٢' -> '2024-05-02' (ASCII text is returned as is)."""
+    return text if text.isascii() else text.translate(DIGIT_FOLD)
+
+
 def normalise(raw: str) -> str:
-    text = _SPACES.sub(" ", raw).strip()
+    text = _SPACES.sub(" ", fold_digits(raw)).strip()
     if "h" in text:
         text = _SPACED_H.sub(_colon_clock, text)
     if not text.isascii():

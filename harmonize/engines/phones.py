@@ -106,10 +106,29 @@ def header_names_phone(header: str) -> bool:
     return any(w in exact or w.startswith(stems) or w.endswith(stems) for w in words)
 
 
+class _DigitFold(dict[int, str]):
+    """``str.translate`` table: a digit of any script (Unicode category Nd: Arabic-Indic
+    "٠١٢", Persian "۰۱۲", Devanagari "०१२") -> the ASCII digit of the same value
+    (``unicodedata.decimal``), as phonenumbers itself reads them; filled as met."""
+
+    def __missing__(self, code: int) -> str:
+        value = unicodedata.decimal(chr(code), None) if code >= 0x80 else None
+        self[code] = chr(code) if value is None else str(value)
+        return self[code]
+
+
+_DIGIT_FOLD = _DigitFold()
+
+
+def fold_digits(text: str) -> str:
+    return text if text.isascii() else text.translate(_DIGIT_FOLD)
+
+
 def clean(text: str) -> str:
-    """NFKC (full-width digits), invisible characters removed, odd spaces made plain, a
-    spreadsheet's leading text marker (') and a trailing label such as "(work)" dropped."""
-    text = unicodedata.normalize("NFKC", text).translate(_INVISIBLE)
+    """NFKC (full-width digits), digits of other scripts made ASCII, invisible characters
+    removed, odd spaces made plain, a spreadsheet's leading text marker (') and a trailing
+    label such as "(work)" dropped."""
+    text = fold_digits(unicodedata.normalize("NFKC", text)).translate(_INVISIBLE)
     text = " ".join(text.split()).lstrip("'")
     return _TRAILING_LABEL.sub("", text)
 
@@ -410,12 +429,12 @@ def _suggested_region(survey: _Survey, default: str | None) -> str | None:
 def _bare(value: str) -> bool:
     """Digits only, or a plain decimal number: what a column of phones without a phone
     header must not be made of (identifiers, amounts and quantities are)."""
-    text = value.strip()
+    text = fold_digits(value.strip())
     return not FORMATTED.search(text) or bool(PLAIN_DECIMAL.match(text))
 
 
 def _shaped_share(values: list[str], weights: np.ndarray) -> float:
-    shaped = np.fromiter((is_phone_shaped(v) and not PLAIN_DECIMAL.match(v.strip())
+    shaped = np.fromiter((is_phone_shaped(v) and not PLAIN_DECIMAL.match(fold_digits(v.strip()))
                           for v in values), dtype=bool, count=len(values))
     return float(weights[shaped].sum() / weights.sum())
 

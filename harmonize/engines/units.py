@@ -44,6 +44,14 @@ Convention keys (plain values; edit them in a plan file):
                         ``ungrouped_digits`` as in the numbers engine ("1.272 kg" beside
                         "2000 kg": 1.272).
 ``significant_digits``  digits kept where a conversion does not end (100 km/h -> m/s).
+``clock_form``          "h:mm", "m:ss" or null: under a duration header ("Duration",
+                        "Fahrzeit"), values written as a clock ("3:30", "26:30") are lengths
+                        of time, and this says what two parts mean (three are h:mm:ss).
+                        The header decides "h:mm"; a plan may set "m:ss" (call lengths).
+
+Epoch stamps ("Scan ms": 1714638600000) are not durations: a column whose every value is
+a whole number of seconds or milliseconds inside the dates engine's epoch range, under a
+header naming no duration word, is left to the numbers engine.
 """
 
 from __future__ import annotations
@@ -59,6 +67,8 @@ import pyarrow.compute as pc
 
 from harmonize.context import Context
 from harmonize.engines.base import Converted, Decision, GroupRule, Outcome
+from harmonize.engines.dates_numbers import EPOCH_MILLIS, EPOCH_SECONDS
+from harmonize.engines.dates_words import header_says_duration
 from harmonize.engines.grouping import explaining_split
 from harmonize.engines.numbers import decide_marks
 from harmonize.engines.numbers_forms import COMMA_ONLY, DOT_ONLY, Forms, analyse
@@ -66,6 +76,7 @@ from harmonize.engines.numbers_marks import scoped_ungrouped
 from harmonize.engines.units_convert import SIGNIFICANT_DIGITS, convert_quantities
 from harmonize.engines.units_parse import (
     Cells,
+    clock_durations,
     clock_hour_header,
     format_unit,
     header_dimensions,
@@ -90,6 +101,11 @@ HEADER_NAMES = "the header names the unit "
 FORMAT_NAMES = "the workbook's number formats name the unit "
 UNIT_SHARE_FOR_BARE = 0.2   # below this share of unit cells, bare numbers are not ours
 SOLE_UNIT_SHARE = 0.5       # unit cells needed before bare numbers take the sole unit
+# What "3:30" means under a duration header naming no unit or hours ("Duration",
+# "Fahrzeit (h)"), or minutes ("Duration (min)"): see clock_form
+CLOCK_FORM_BY_HEADER_UNIT = {"h": "h:mm", "min": "m:ss"}
+# The dates engine's epoch ranges (POSIX seconds and milliseconds, 1990-2100) per unit id
+EPOCH_RANGES = {"s": EPOCH_SECONDS, "ms": EPOCH_MILLIS}
 
 # Territories whose unqualified gallon/pint/quart/fluid ounce is the US or the imperial
 # measure. Common practice, no source (from memory); other territories decide nothing.
@@ -335,8 +351,9 @@ class UnitEngine:
         if total == 0:
             return None
         cells = split_cells(column.values.tolist())
-        tally = Tally.of(cells, column.counts)
         header = header_unit(column.name)
+        cells, clock_form, clock_note = _clock_cells(column, cells, header)
+        tally = Tally.of(cells, column.counts)
         from_format = header is None and column.formats
         if from_format:
             header = format_unit(column.formats)   # '0.0" kg"': bare workbook numbers in kg
@@ -348,8 +365,11 @@ class UnitEngine:
         if dimension is None:
             return None
         plan = self._plan(column, context, cells, tally, dimension, header, word_dims)
-        if plan is None:
+        if plan is None or _epoch_stamps(column, cells, plan.convention):
             return None
+        if clock_form:
+            plan.convention["clock_form"] = clock_form
+            plan.evidence.insert(0, clock_note)
         if from_format and header is not None:
             plan.evidence = [FORMAT_NAMES + e.removeprefix(HEADER_NAMES)
                              if e.startswith(HEADER_NAMES)
@@ -423,6 +443,41 @@ class UnitEngine:
 
     def convert(self, values: Sequence[str], convention: Mapping[str, Any]) -> Converted:
         return convert_quantities(values, convention)
+
+
+def _clock_cells(column: ColumnEvidence, cells: Cells, header: Any
+                 ) -> tuple[Cells, str | None, str]:
+    """Under a duration header, clock-written values ("3:30") split into hours, minutes and
+    seconds: the cells, the clock form (h:mm, or m:ss under a header naming minutes) and
+    the evidence sentence; else ``cells`` unchanged, None and ""."""
+    units = header.reading.units if header is not None else frozenset({"h"})
+    form = CLOCK_FORM_BY_HEADER_UNIT.get(next(iter(units))) if len(units) == 1 else None
+    if form is None or not header_says_duration(column.name):
+        return cells, None, ""
+    found, clocks = clock_durations(column.values.tolist(), cells, form)
+    written = int(column.counts[clocks].sum())
+    if not written:
+        return cells, None, ""
+    return found, form, (f"{written} cell(s) are written as a clock ({form} or h:mm:ss) "
+                         f"under a header naming a length of time ({column.name!r}): read "
+                         "as hours, minutes and seconds")
+
+
+def _epoch_stamps(column: ColumnEvidence, cells: Cells, convention: Mapping[str, Any]) -> bool:
+    """Whether a duration column in seconds or milliseconds holds only whole numbers inside
+    the epoch range of that unit under a header naming no length of time: moments
+    ("Scan ms": 1714638600000 is 2024-05-02 in POSIX milliseconds), not 54-year spans."""
+    unit = convention.get("bare_unit")
+    if convention["dimension"] != "duration" or unit not in EPOCH_RANGES \
+            or set(convention.get("column_units") or []) - {unit} \
+            or header_says_duration(column.name):
+        return False
+    parts = pa.array(cells.number_parts(), type=pa.string())
+    if len(parts) < len(cells.pieces) or not pc.all(pc.ascii_is_decimal(parts)).as_py():
+        return False   # a value that is no number, a fraction or a compound: not stamps
+    low, high = EPOCH_RANGES[unit]
+    numbers = pc.cast(parts, pa.float64()).to_numpy(zero_copy_only=False)
+    return bool(((numbers >= low) & (numbers <= high)).all())
 
 
 def _ledger_letters(tally: Tally) -> bool:
@@ -542,6 +597,8 @@ def _confidence(tally: Tally, total: int, convention: Mapping[str, Any], plan: P
     guessed_bare = tally.unit_cells and tally.bare_cells and _no_header(plan)
     if convention.get("bare_unit") and guessed_bare:
         p *= 0.95  # bare numbers take the column's only unit: likely, not certain
+    if convention.get("clock_form"):
+        p *= 0.9   # the header, not the cells, says whether "3:30" is h:mm or m:ss
     return round(min(max(p * plan.mark_confidence, 0.01), 0.999), 4)
 
 

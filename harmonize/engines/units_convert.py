@@ -33,7 +33,13 @@ from harmonize.engines.numbers_forms import (
     format_decimal_plain,
     to_decimal,
 )
-from harmonize.engines.units_parse import Cells, split_cells
+from harmonize.engines.units_parse import (
+    CLOCK_FORMS,
+    CLOCK_LIKE,
+    Cells,
+    clock_durations,
+    split_cells,
+)
 from harmonize.engines.units_registry import (
     UNITS,
     factor,
@@ -267,7 +273,10 @@ def convert_quantities(values: Sequence[str], convention: Mapping[str, Any],
                        cells: Cells | None = None) -> Converted:
     """Convert distinct values under a convention (see the module docstring); ``cells``
     are the values already split, when the caller has them."""
-    cells = split_cells(values) if cells is None else cells
+    if cells is None:
+        cells = split_cells(values)
+        if convention.get("clock_form") in CLOCK_FORMS:
+            cells, _ = clock_durations(values, cells, convention["clock_form"])
     digits = int(convention.get("significant_digits") or SIGNIFICANT_DIGITS)
     ungrouped = int(convention.get("ungrouped_digits") or 0)
     numbers = NumberReadings.of(cells.number_parts(), convention.get("decimal_mark"),
@@ -285,7 +294,7 @@ def convert_quantities(values: Sequence[str], convention: Mapping[str, Any],
                 continue
         raw = str(values[i]).strip()
         if not pieces:
-            result.unresolved(i, range_reason(raw) or
+            result.unresolved(i, range_reason(raw) or _clock_reason(raw, convention) or
                               f"{raw!r} is not a quantity in a form this engine reads")
             continue
         cell = read_cell(pieces, numbers, memo, digits)
@@ -303,6 +312,14 @@ def convert_quantities(values: Sequence[str], convention: Mapping[str, Any],
         result.unresolved(i, _ambiguity_reason(raw, pieces, cell, convention),
                           candidates=texts[:MAX_CANDIDATES], best=best)
     return result
+
+
+def _clock_reason(raw: str, convention: Mapping[str, Any]) -> str | None:
+    """Why a clock-written value of a clock_form column does not read ("3:75")."""
+    if not convention.get("clock_form") or not CLOCK_LIKE.fullmatch(raw):
+        return None
+    return (f"{raw!r} is written as a clock, but its minutes or seconds are not 00-59 "
+            f"(the column reads {convention['clock_form']} and h:mm:ss)")
 
 
 def _best(pieces: tuple[tuple[str, str | None], ...], likely: NumberReadings,

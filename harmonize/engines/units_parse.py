@@ -274,3 +274,44 @@ def header_dimensions(header: str) -> set[str]:
     words = re.findall(r"[^\W\d_]+", header.casefold())
     table = _dimension_words()
     return {dim for word in words for key, dim in table.items() if word.startswith(key)}
+
+
+# ------------------------------------------------------------- clock-written durations
+
+# Lengths of time written as a clock ("3:30", "26:30", "1:05:10"): hours (any number of
+# them), then minutes and seconds 00-59 (ISO 8601:2004 §4.2.2.2 writes a time of day as
+# hh:mm:ss, a duration lets the hours run past 24; common practice, no source for the
+# latter). ``CLOCK_FORMS`` names what two parts mean; three parts are always h:mm:ss.
+_CLOCK_DURATION = (r"^(?P<a>\d+):(?P<b>[0-5]\d)"
+                   r"(?::(?P<c>[0-5]\d(?:[.,]\d+)?))?$")
+CLOCK_DURATION = re.compile(_CLOCK_DURATION)
+CLOCK_LIKE = re.compile(r"[-+]?\d+:\d+(?::\d+(?:[.,]\d+)?)?")
+CLOCK_FORMS = {"h:mm": ("h", "min"), "m:ss": ("min", "s")}
+
+
+def clock_durations(values: Sequence[str], cells: Cells, form: str) -> tuple[Cells, np.ndarray]:
+    """``cells`` with each clock-written value ("3:30") split into hours, minutes and
+    seconds pieces, and which values were; ``form`` ("h:mm" or "m:ss") says what a value
+    of two parts means. Printable-ASCII values are matched by one RE2 expression over all
+    of them; the rest are folded first (Arabic-Indic or full-width digits, "：")."""
+    raw = pa.array([str(v) for v in values], type=pa.string())
+    plain = np.asarray(pc.match_substring_regex(raw, _PRINTABLE_ASCII), dtype=bool)
+    parts: list[tuple[str | None, ...] | None] = [None] * len(raw)
+    if plain.any():
+        found = pc.extract_regex(pc.utf8_trim(raw.filter(pa.array(plain)), " "), _CLOCK_DURATION)
+        rows = np.flatnonzero(plain)
+        for i, match in zip(rows.tolist(), found.to_pylist(), strict=True):
+            if match is not None:
+                parts[i] = (match["a"], match["b"], match["c"] or None)
+    for i in np.flatnonzero(~plain).tolist():
+        match = CLOCK_DURATION.match(fold_text(str(values[i])))
+        if match is not None:
+            parts[i] = match.group("a", "b", "c")
+    pieces = list(cells.pieces)
+    first, second = CLOCK_FORMS[form]
+    for i, found_parts in enumerate(parts):
+        if found_parts is None:
+            continue
+        a, b, c = found_parts
+        pieces[i] = ((a, "h"), (b, "min"), (c, "s")) if c else ((a, first), (b, second))
+    return Cells(pieces), np.array([p is not None for p in parts], dtype=bool)
