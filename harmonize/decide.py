@@ -91,8 +91,8 @@ def settled_column(column: ColumnEvidence, context: Context
     a second run over the output reads only those, with every number written plainly
     ("20,001 g" is 0.020001 kg there, not a number near 20001) and every cell the engine
     could not decide empty (so "-7,088", a group or a decimal mark?, is no other negative
-    value beside "-999"). A value either finds a sentinel is set aside, so that both runs
-    set aside the same values. Converted quantities are looked at always, since a unit
+    value beside "-999"). A value that either look finds a sentinel is set aside, so that
+    both runs set aside the same values. Converted quantities are looked at always, since a unit
     conversion may write a run of nines the raw values did not show."""
     rule, missing = missing_with_mask(column, context.options)
     plan = _plan_for(column, rule, missing, context)
