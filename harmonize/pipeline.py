@@ -9,6 +9,7 @@ the others go on.
 from __future__ import annotations
 
 import os
+from collections import Counter
 from collections.abc import Callable, Sequence
 from dataclasses import dataclass, field
 from pathlib import Path
@@ -259,14 +260,31 @@ def _safe_to_open(table: CodedFrame, writer: str, options: Options
 
 
 def _relative_names(paths: Sequence[str | Path]) -> list[tuple[Path, Path]]:
-    """(path, name relative to the folder it was found in) for every input file."""
-    found = []
+    """(path, name relative to the folder it was found in) for every input file, each
+    file once, and no two with the same name (outputs are written under these names)."""
+    found: dict[Path, Path] = {}
     for given in paths:
         given = Path(given)
         for path in find_inputs([given]):
             rel = path.relative_to(given) if given.is_dir() else Path(path.name)
-            found.append((path, rel))
-    return found
+            found.setdefault(path.resolve(), rel)
+    return _told_apart([(path, rel) for path, rel in found.items()])
+
+
+def _told_apart(found: list[tuple[Path, Path]]) -> list[tuple[Path, Path]]:
+    """Files that would share a name (two folders' "ledger.csv") are named with as many
+    of their folders as tell them apart ("north/ledger.csv", "south/ledger.csv"), so that
+    no output overwrites another. Names are compared case-folded, as some disks do."""
+    names = [rel for _, rel in found]
+    folders = [path.parts[1:] if path.is_absolute() else path.parts for path, _ in found]
+    for _ in range(max(map(len, folders), default=0)):
+        seen = Counter(str(n).casefold() for n in names)
+        clashes = [i for i, n in enumerate(names) if seen[str(n).casefold()] > 1]
+        if not clashes:
+            break
+        for i in clashes:   # one more folder in front, never the root: names stay relative
+            names[i] = Path(*folders[i][-min(len(names[i].parts) + 1, len(folders[i])):])
+    return [(path, name) for (path, _), name in zip(found, names)]
 
 
 def run(paths: Sequence[str | Path], out_dir: str | Path | None = None, *,

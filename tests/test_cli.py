@@ -240,3 +240,21 @@ def test_unit_year_and_country_options(tmp_path: Path) -> None:
     assert frame["Country"].tolist() == ["DE", "FR", "DE"]
     code, _, err = invoke("apply", str(data), "--out", str(out), "--unit", "litres")
     assert code == 2 and "DIMENSION=UNIT" in err
+
+
+def test_inputs_of_the_same_name_get_outputs_of_their_own(tmp_path: Path) -> None:
+    # two branches' folders each hold "ledger.csv": neither output may overwrite the other
+    # (invented data; nothing lost is the project's own rule)
+    for branch, amount in (("north", "12.50"), ("south", "7.25")):
+        (tmp_path / branch).mkdir()
+        (tmp_path / branch / "ledger.csv").write_text(f"Amount\n{amount}\n", "utf-8")
+    north, south = tmp_path / "north", tmp_path / "south"
+    out = tmp_path / "out"
+    args = ["apply", str(north), str(south), str(north / "ledger.csv"), "--out", str(out), "-q"]
+    result = CliRunner().invoke(main, args)
+    assert result.exit_code == 0, result.output
+    report = json.loads((out / "harmonize-report.json").read_text("utf-8"))
+    assert sorted(e["output"] for e in report["files"]) == ["north/ledger.csv",
+                                                            "south/ledger.csv"]
+    assert (out / "north" / "ledger.csv").read_text("utf-8").split() == ["Amount", "12.5"]
+    assert (out / "south" / "ledger.csv").read_text("utf-8").split() == ["Amount", "7.25"]
